@@ -1,0 +1,1 @@
+"""Domain data of `qc`: materials and instrument types, loaded once and validated."""
