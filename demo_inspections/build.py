@@ -77,10 +77,12 @@ def shafts_warm(rng: np.random.Generator) -> tuple[list[list[object]], list[list
         ("Runout D1", 0.0, "0.02 max", "DI-01", 0.001, False, 0.004, 0.008),
     ]
     head = [
-        ["Characteristic", *[c[0] for c in chars], "Part temp (°C)", "Room (°C)", "Note"],
-        ["Nominal", *[c[1] for c in chars], None, None, None],
-        ["Tolerance", *[c[2] for c in chars], None, None, None],
-        ["Instrument", *[c[3] for c in chars], None, None, None],
+        ["Characteristic", *[c[0] for c in chars], "Part temp (°C)", "Room (°C)", "Material",
+         "Note"],
+        ["Kind", "diameter", "diameter", "length", "runout", None, None, None, None],
+        ["Nominal", *[c[1] for c in chars], None, None, None, None],
+        ["Tolerance", *[c[2] for c in chars], None, None, None, None],
+        ["Instrument", *[c[3] for c in chars], None, None, None, None],
     ]
     rows: list[list[object]] = []
     for p in range(1, 16):
@@ -94,7 +96,7 @@ def shafts_warm(rng: np.random.Generator) -> tuple[list[list[object]], list[list
                                        STEEL, np.array([room]))[0])
             values.append(round(round(abs(true) / res) * res, 4))
         note = "measured at the machine" if part_t > 34 else None
-        rows.append([f"S-{p:03d}", *values, part_t, room, note])
+        rows.append([f"S-{p:03d}", *values, part_t, room, "17-4PH", note])
     return head, rows
 
 
@@ -197,7 +199,7 @@ def main() -> None:
     write_workbook(
         HERE / "shafts_warm.xlsx",
         ["Drive shafts 17-4PH, lot 0412: in-process check", "Measured at the lathe"],
-        [[*h] for h in head] + srows, 4, REGISTER)
+        [[*h] for h in head] + srows, 5, REGISTER)
     header, rows = spacers_inch(rng)
     write_csv(HERE / "spacers_inch.csv", [header, *rows])
 

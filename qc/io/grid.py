@@ -1,0 +1,74 @@
+"""A sheet as read: a 2-D object array of raw cells with its place in the file."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+__all__ = ["Grid", "column_letter"]
+
+
+def column_letter(index: int) -> str:
+    """Spreadsheet column letter of a 0-based column index (0 → A, 26 → AA)."""
+    out = ""
+    n = index + 1
+    while n:
+        n, r = divmod(n - 1, 26)
+        out = chr(65 + r) + out
+    return out
+
+
+@dataclass
+class Grid:
+    """Raw cells of one sheet; ``cells[i, j]`` is spreadsheet row i + 1, column j (0 = A).
+
+    Blank cells are ''. ``merged`` lists merged ranges as ((row0, col0), (row1, col1)), 0-based
+    and inclusive. ``sheet`` is None for CSV files.
+    """
+
+    file: str
+    sheet: str | None
+    cells: np.ndarray
+    merged: list[tuple[tuple[int, int], tuple[int, int]]] = field(default_factory=list)
+    sheets: list[str] = field(default_factory=list)
+    decimal: str | None = None
+    delimiter: str | None = None
+    notes: list[str] = field(default_factory=list)
+    _blank: np.ndarray | None = field(default=None, repr=False)
+
+    def blank(self) -> np.ndarray:
+        """True where a cell is empty or whitespace-only text (computed once, column-wise)."""
+        if self._blank is None:
+            import pandas as pd
+
+            out = np.ones(self.cells.shape, dtype=bool)
+            for j in range(self.cells.shape[1]):
+                col = pd.Series(self.cells[:, j], dtype=object)
+                strs = col.map(type).isin([str]).to_numpy()
+                out[:, j] = col.isna().to_numpy()
+                if strs.any():
+                    out[strs, j] = (col[strs].str.strip() == "").to_numpy()
+            self._blank = out
+        return self._blank
+
+    def header_cells(self, row: int) -> list[object]:
+        """Cells of one row with merged ranges spanning it filled from their top-left cell."""
+        vals = list(self.cells[row]) if row < self.cells.shape[0] else []
+        for (r0, c0), (r1, c1) in self.merged:
+            if r0 <= row <= r1:
+                top = self.cells[r0, c0]
+                for c in range(c0, min(c1 + 1, len(vals))):
+                    if vals[c] == "" or vals[c] is None:
+                        vals[c] = top
+        return vals
+
+    def merged_value(self, row: int, col: int) -> object:
+        """The cell's value, or the top-left value of the merged range that covers it."""
+        v = self.cells[row, col]
+        if v not in ("", None):
+            return v
+        for (r0, c0), (r1, c1) in self.merged:
+            if r0 <= row <= r1 and c0 <= col <= c1:
+                return self.cells[r0, c0]
+        return v

@@ -1,0 +1,210 @@
+"""read_inspection: one sheet of a shop's inspection file → an :class:`InspectionTable`.
+
+The whole-file problems (unreadable, empty, no header) raise one
+:class:`~qc.errors.FileReadError`; everything about single cells becomes a row error in the
+table, and every data row of the sheet has exactly one frame row (wide layout: one per part
+and characteristic), in input order.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from qc.errors import FileReadError
+from qc.io.assemble import assemble
+from qc.io.csvfile import read_delimited
+from qc.io.grid import Grid, column_letter
+from qc.io.headers import HeaderScan, find_header_row, suggest_field
+from qc.io.layout import load_layout
+from qc.io.raw import RawTable
+from qc.io.register import REGISTER_SHEETS, Register, read_register, register_from_grid
+from qc.io.wide import WideHeader, find_wide_header, wide_to_raw
+from qc.io.xlsx import read_workbook_sheet
+from qc.models import InspectionRecord, Layout, RowError
+
+__all__ = ["ColumnRef", "InspectionTable", "check", "read_grid", "read_inspection",
+           "record_of"]
+
+WORKBOOK_SUFFIXES = (".xlsx", ".xlsm", ".ods")
+TEXT_SUFFIXES = (".csv", ".tsv", ".txt")
+
+
+@dataclass(frozen=True)
+class ColumnRef:
+    """Where a field came from: column letter (None in wide layout: per row) and header."""
+
+    letter: str | None
+    header: str
+    unit: str | None = None
+
+
+@dataclass
+class InspectionTable:
+    """What read_inspection returns: the typed frame, row errors, and where it all came from."""
+
+    frame: pd.DataFrame
+    columns: dict[str, ColumnRef]
+    errors: list[RowError]
+    warnings: list[str]
+    layout: Layout
+    header_row: int
+    data_rows: list[int]
+    sheet: str | None
+    last_column: str
+    file: str = ""
+    kind: str = "long"
+    register: Register | None = field(default=None, repr=False)
+    wide: WideHeader | None = field(default=None, repr=False)
+    delimiter: str | None = None
+
+    @property
+    def ok(self) -> bool:
+        """True when no row has an error."""
+        return not self.errors
+
+
+def read_grid(path: Path, *, sheet: str | None = None, prefer: tuple[str, ...] = (),
+              avoid: tuple[str, ...] = (), decimal: str | None = None,
+              delimiter: str | None = None) -> Grid:
+    """Read the cells of one sheet of any supported file."""
+    path = Path(path)
+    if not path.exists():
+        raise FileReadError(f"{path.name}: no such file")
+    suffix = path.suffix.lower()
+    if suffix in WORKBOOK_SUFFIXES:
+        return read_workbook_sheet(path, sheet, prefer=prefer, avoid=avoid)
+    if suffix in TEXT_SUFFIXES:
+        return read_delimited(path, delimiter=delimiter, decimal=decimal)
+    raise FileReadError(
+        f"{path.name}: files of type {suffix or '(none)'} cannot be read; "
+        "use .xlsx, .xlsm, .ods, .csv or .tsv"
+    )
+
+
+def _long_raw(grid: Grid, scan: HeaderScan) -> tuple[RawTable, list[int]]:
+    start = (scan.unit_row if scan.unit_row is not None else scan.row) + 1
+    filled = ~grid.blank()[start:].all(axis=1)
+    data_rows = [int(i) + start for i in np.flatnonzero(filled)]
+    raw = RawTable(file=grid.file, sheet=grid.sheet, rows=np.array(data_rows, dtype=np.int64) + 1)
+    dr = np.array(data_rows, dtype=np.int64)
+    for m in scan.matches:
+        raw.cells[m.field] = grid.cells[dr, m.column] if len(dr) else np.array([], dtype=object)
+        raw.letters[m.field] = m.letter
+        raw.headers[m.field] = m.header
+        raw.header_units[m.field] = m.unit
+    # a bare 'reading' header numbered reading_1 by the matcher; keep the name simple
+    return raw, data_rows
+
+
+def read_inspection(path: Path | str, *, layout: Layout | Path | str | None = None,
+                    sheet: str | None = None, register: Path | str | None = None,
+                    ) -> InspectionTable:
+    """Read one inspection sheet into validated, typed records; see docs/columns.md."""
+    path = Path(path)
+    if layout is not None and not isinstance(layout, Layout):
+        layout = load_layout(Path(layout))
+    lay = layout or Layout()
+    decimal_opt = None if lay.decimal == "auto" else lay.decimal
+    grid = read_grid(path, sheet=sheet or lay.sheet, decimal=decimal_opt,
+                     delimiter=lay.delimiter, avoid=REGISTER_SHEETS)
+    warnings = list(grid.notes)
+    if not grid.cells.size or grid.blank().all():
+        where = grid.file + (f" › {grid.sheet}" if grid.sheet else "")
+        raise FileReadError(f"{where}: the sheet is empty")
+    decimal = grid.decimal or decimal_opt or "."
+    if grid.decimal is None and decimal_opt is None:
+        warnings.append(f"{grid.file}: numbers written as text are read with a decimal point; "
+                        "a comma is read as decimal mark only where it cannot be a thousands "
+                        "separator")
+
+    reg = _register(path, grid, lay, register, decimal, warnings)
+    wide = None if lay.layout == "long" else find_wide_header(grid, lay)
+    columns: dict[str, ColumnRef] = {}
+    if wide is not None and lay.layout != "long":
+        raw, data_rows = wide_to_raw(grid, wide)
+        header_row = wide.char_row + 1
+        kind = "wide"
+        for name in raw.cells:
+            letter = raw.letters[name]
+            columns[name] = ColumnRef(letter if isinstance(letter, str) else None,
+                                      str(raw.headers[name]) if isinstance(raw.headers[name], str)
+                                      else "per characteristic", raw.header_units.get(name))
+    else:
+        scan = find_header_row(grid, lay)
+        where = grid.file + (f" › {grid.sheet}" if grid.sheet else "")
+        if scan is None or not scan.matches:
+            raise FileReadError(
+                f"{where}: no header row found in the first 60 rows; expected column names "
+                "such as 'Part', 'Characteristic', 'Nominal', 'Tolerance', 'Reading' "
+                "(or name your headers in a layout file)"
+            )
+        raw, data_rows = _long_raw(grid, scan)
+        header_row = scan.row + 1
+        kind = "long"
+        for m in scan.matches:
+            columns[m.field] = ColumnRef(m.letter, m.header, m.unit)
+        for c, text in scan.unmatched:
+            hint = suggest_field(text)
+            extra = f"; did you mean {' or '.join(repr(h) for h in hint)}?" if hint else ""
+            warnings.append(f"{where} › {column_letter(c)}: header {text!r} not recognised, "
+                            f"column ignored{extra}")
+    frame, errors = assemble(raw, lay, decimal=decimal, register=reg, notes=warnings)
+    used = np.flatnonzero(~grid.blank().all(axis=0))
+    last = int(used.max()) if len(used) else 0
+    return InspectionTable(
+        frame=frame, columns=columns, errors=errors, warnings=warnings, layout=lay,
+        header_row=header_row, data_rows=[r + 1 for r in data_rows], sheet=grid.sheet,
+        last_column=column_letter(last), file=grid.file, kind=kind, register=reg,
+        wide=wide if kind == "wide" else None, delimiter=grid.delimiter,
+    )
+
+
+def _register(path: Path, grid: Grid, lay: Layout, register: Path | str | None, decimal: str,
+              warnings: list[str]) -> Register | None:
+    """The register: a separate file if given, else a register sheet of the same workbook."""
+    reg: Register | None = None
+    if register is not None:
+        reg = read_register(Path(register))
+    elif grid.sheet is not None:
+        names = {s.lower(): s for s in grid.sheets}
+        name = lay.register_sheet or next(
+            (names[s] for s in REGISTER_SHEETS if s in names and names[s] != grid.sheet), None)
+        if name is not None:
+            reg_grid = read_workbook_sheet(path, name)
+            reg = register_from_grid(reg_grid, decimal=decimal)
+    if reg is not None:
+        warnings.extend(reg.notes)
+    return reg
+
+
+def check(path: Path | str, **kwargs: object) -> InspectionTable:
+    """Read and validate only (no correction, no verdicts): the same table as read_inspection."""
+    return read_inspection(path, **kwargs)  # type: ignore[arg-type]
+
+
+def record_of(frame: pd.DataFrame, i: int) -> InspectionRecord:
+    """One frame row as a validated InspectionRecord (NaN and NaT become None).
+
+    For single rows (reports, tests, write-back); the bulk path never builds models.
+    """
+    row = frame.iloc[i].to_dict()
+    out: dict[str, object] = {}
+    for k, v in row.items():
+        if v is None or (isinstance(v, float) and np.isnan(v)) or v is pd.NaT:
+            out[k] = None
+        elif isinstance(v, pd.Timestamp):
+            out[k] = v.to_pydatetime()
+        elif isinstance(v, np.generic):
+            out[k] = v.item()
+        else:
+            out[k] = v
+    for k in ("part", "characteristic", "flags"):
+        out[k] = out[k] or ""
+    for k in ("kind", "instrument", "inspector", "note", "part_material", "gauge_material",
+              "tolerance_text", "tolerance_description", "instrument_type"):
+        out[k] = out[k] or None
+    return InspectionRecord.model_validate(out)

@@ -1,0 +1,218 @@
+"""Tables derived from a batch's results: the long budget, per-characteristic statistics,
+the action list and soak advice. Column-wise pandas; no file I/O."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from qc.core.band import allowable_band
+from qc.core.budget import BatchBudget
+from qc.core.labels import distribution_name
+from qc.core.soak import soak_time_for_rows
+from qc.errors import QcError
+
+__all__ = [
+    "FLAG_CODES",
+    "RESULT_COLUMNS",
+    "actions_frame",
+    "budget_frame",
+    "characteristic_frame",
+    "soak_advice",
+]
+
+#: The result columns, in order (a public interface: docs/columns.md).
+RESULT_COLUMNS: tuple[str, ...] = (
+    "unit", "lower_limit", "upper_limit", "reading", "size_at_20c", "thermal_correction",
+    "combined_uncertainty", "coverage_factor", "expanded_uncertainty", "effective_dof",
+    "verdict", "conformance_probability", "capability_index", "uncertainty_ratio",
+    "margin_in_U", "accept_low", "accept_high", "flags", "message", "soak_minutes_low",
+    "soak_minutes_high",
+)
+
+#: Flag codes and what they tell the inspector (docs/columns.md).
+FLAG_CODES: dict[str, str] = {
+    "temperature-decides": "the verdict without the thermal correction would differ",
+    "calibration-overdue": "the instrument's calibration was due before the measurement date",
+    "instrument-too-coarse": "tolerance / (2U) below 4: use a finer instrument",
+    "soak-advised": "borderline or temperature-decided with the part off the gauge "
+                    "temperature: let it soak and re-measure",
+    "reference-not-20c": "sizes referred to a temperature other than 20 °C (ISO 1)",
+}
+
+
+def budget_frame(budget: BatchBudget, results: pd.DataFrame, f: np.ndarray,
+                 source_rows: np.ndarray) -> pd.DataFrame:
+    """The budget in long form: one row per contribution per measurement, with origin.
+
+    Contributions are in each row's own unit (``f`` mm per unit); their squares sum to the
+    row's combined_uncertainty² (second-order terms included as their own rows).
+    """
+    lf = budget.long_form()
+    i = lf.measurement
+    shared = budget.shared_room[i]
+    names = np.where(shared, np.asarray(budget.quantity_names_shared, dtype=object)[lf.quantity],
+                     np.asarray(budget.quantity_names, dtype=object)[lf.quantity])
+    units = np.asarray(budget.units, dtype=object)[lf.quantity]
+    row_unit = results["unit"].to_numpy(dtype=object)[i]
+    codes = np.unique(lf.distribution)
+    dist_names = dict(zip(codes.tolist(), [distribution_name(int(c)) for c in codes],
+                          strict=True))
+    return pd.DataFrame({
+        "row_index": i,
+        "source_row": np.asarray(source_rows)[i],
+        "quantity": names,
+        "estimate": lf.estimate,
+        "estimate_unit": units,
+        "standard_uncertainty": lf.u,
+        "distribution": pd.Series(lf.distribution).map(dist_names).to_numpy(),
+        "dof": lf.dof,
+        "sensitivity": lf.sensitivity,
+        "contribution": lf.contribution / f[i],
+        "unit": row_unit,
+        "share": lf.share,
+    })
+
+
+def characteristic_frame(frame: pd.DataFrame, results: pd.DataFrame,
+                         share: float) -> pd.DataFrame:
+    """Per characteristic: n, mean, s, min, max of the corrected sizes (row unit), and the
+    temperature band that keeps the thermal error within ``share`` of the tolerance."""
+    data = pd.DataFrame({
+        "characteristic": frame["characteristic"].fillna("").to_numpy(),
+        "unit": results["unit"].to_numpy(),
+        "size": results["size_at_20c"].to_numpy(),
+        "lower": results["lower_limit"].to_numpy(),
+        "upper": results["upper_limit"].to_numpy(),
+        "verdict": results["verdict"].to_numpy(),
+    })
+    g = data.groupby(["characteristic", "unit"], sort=False, dropna=False)
+    out = g["size"].agg(["count", "mean", "std", "min", "max"]).reset_index()
+    out = out.rename(columns={"count": "n", "std": "s"})
+    out["lower_limit"] = g["lower"].first().to_numpy()
+    out["upper_limit"] = g["upper"].first().to_numpy()
+    for v in ("conforms", "nonconforming", "borderline", "not evaluated"):
+        out[v] = g["verdict"].apply(lambda s, v=v: int((s == v).sum())).to_numpy()
+    out["band_low_c"], out["band_high_c"], out["band_corrected_low_c"], \
+        out["band_corrected_high_c"] = _bands(frame, data, g, share)
+    return out
+
+
+def _bands(frame: pd.DataFrame, data: pd.DataFrame, g, share: float):
+    """Allowable temperature band per characteristic (qc.core.band), NaN where not defined."""
+    def first(col: str) -> np.ndarray:
+        if col not in frame:
+            return np.full(g.ngroups, np.nan)
+        return pd.Series(frame[col].to_numpy(dtype=float), index=data.index).groupby(
+            [data["characteristic"], data["unit"]], sort=False, dropna=False).first().to_numpy()
+
+    nominal = first("nominal_mm")
+    width = first("upper_limit_mm") - first("lower_limit_mm")
+    ap, ag = first("part_cte"), first("gauge_cte")
+    up, ug = first("part_cte_u"), first("gauge_cte_u")
+    ok = (nominal > 0) & (width > 0) & np.isfinite(ap)
+    res = [np.full(len(nominal), np.nan) for _ in range(4)]
+    if ok.any():
+        ag_ok = np.where(np.isfinite(ag[ok]), ag[ok], 11.5e-6)
+        b = allowable_band(nominal[ok], width[ok] * 1000.0, share, ap[ok], ag_ok,
+                           np.nan_to_num(up[ok]), np.nan_to_num(ug[ok]), 0.5 / np.sqrt(3))
+        res[0][ok], res[1][ok] = b.uncorrected_c
+        res[2][ok], res[3][ok] = b.corrected_c
+    return res
+
+
+def soak_advice(frame: pd.DataFrame, results: pd.DataFrame,
+                band_k: float) -> tuple[np.ndarray, np.ndarray]:
+    """Soak time range (minutes) for rows flagged soak-advised; NaN elsewhere.
+
+    Still air on a rack (qc/data/heat_transfer.toml), the part as a solid cube of its nominal
+    size when no geometry is known (the note in docs/thermal.md says so).
+    """
+    n = len(frame)
+    low, high = np.full(n, np.nan), np.full(n, np.nan)
+    rows = np.flatnonzero(results["flags"].str.contains("soak-advised", regex=False).to_numpy())
+    if rows.size == 0:
+        return low, high
+    from qc.library.heat_transfer import load_heat_transfer
+    from qc.library.materials import load_materials
+
+    library = load_materials()
+    still = load_heat_transfer()[0]["still-air"]
+    names = frame["part_material"].fillna("").to_numpy(dtype=object)[rows]
+    props = np.full((rows.size, 3), np.nan)
+    for name in set(names.tolist()):
+        try:
+            mat = library.get(name)
+        except QcError:
+            continue
+        props[names == name] = (mat.density, mat.specific_heat, mat.conductivity)
+    ok = np.isfinite(props).all(axis=1)
+    if not ok.any():
+        return low, high
+    r = rows[ok]
+    part = frame["part_temp_c"].to_numpy(dtype=float)[r]
+    gauge = frame["gauge_temp_c"].to_numpy(dtype=float)[r]
+    room = frame["room_temp_c"].to_numpy(dtype=float)[r] if "room_temp_c" in frame else gauge
+    target = np.where(np.isfinite(gauge), gauge, room)
+    size = np.abs(frame["nominal_mm"].to_numpy(dtype=float)[r])
+    good = np.isfinite(part) & np.isfinite(target) & (size > 0)
+    if not good.any():
+        return low, high
+    r, part, target, size = r[good], part[good], target[good], size[good]
+    p = props[ok][good]
+    h_rad = 5.7 * 0.3  # dull metal, linearised radiation at 293 K (reference table)
+    soak = soak_time_for_rows(part, target, band_k, p[:, 0], p[:, 1], p[:, 2],
+                              still.h_low + h_rad, still.h_nominal + h_rad,
+                              still.h_high + h_rad, size)
+    low[r] = soak.fast_s / 60.0
+    high[r] = soak.slow_s / 60.0
+    return low, high
+
+
+def actions_frame(frame: pd.DataFrame, results: pd.DataFrame) -> pd.DataFrame:
+    """What to do next, one line per row and action (borderline, soak, instrument, calibration)."""
+    flags = results["flags"].fillna("")
+    verdict = results["verdict"]
+    entries = []
+
+    def add(mask: pd.Series, action: str, reason: pd.Series | str) -> None:
+        if not mask.any():
+            return
+        sub = frame.loc[mask]
+        entries.append(pd.DataFrame({
+            "source_row": sub["source_row"].to_numpy(),
+            "part": sub["part"].to_numpy(),
+            "characteristic": sub["characteristic"].to_numpy(),
+            "action": action,
+            "reason": reason[mask].to_numpy() if isinstance(reason, pd.Series) else reason,
+        }))
+
+    soak_text = ("let it soak " + _minutes(results["soak_minutes_low"]) + "–"
+                 + _minutes(results["soak_minutes_high"]) + " min in still air, then re-measure")
+    soak_text = soak_text.where(results["soak_minutes_low"].notna(),
+                                "let it reach the gauge temperature, then re-measure")
+    add(flags.str.contains("soak-advised", regex=False), "soak and re-measure", soak_text)
+    add((verdict == "borderline") & ~flags.str.contains("soak-advised", regex=False),
+        "re-measure or decide with the customer",
+        "borderline: neither conformance nor nonconformance is proven under the decision rule")
+    add(flags.str.contains("temperature-decides", regex=False)
+        & ~flags.str.contains("soak-advised", regex=False),
+        "check the temperatures", "the verdict without the thermal correction would differ")
+    add(flags.str.contains("instrument-too-coarse", regex=False), "use a finer instrument",
+        "tolerance / (2U) = " + results["uncertainty_ratio"].round(1).astype(str)
+        + " (below 4:1)")
+    add(flags.str.contains("calibration-overdue", regex=False), "calibration overdue",
+        "instrument " + frame["instrument"].fillna("").astype(str)
+        + " was past its calibration due date")
+    add(verdict == "not evaluated", "correct the input", results["message"].fillna(""))
+    add(verdict == "nonconforming", "segregate the part (nonconforming)",
+        "outside the specification zone enlarged by U")
+    columns = ["source_row", "part", "characteristic", "action", "reason"]
+    if not entries:
+        return pd.DataFrame(columns=columns)
+    return pd.concat(entries, ignore_index=True).sort_values(
+        ["source_row"], kind="stable").reset_index(drop=True)
+
+
+def _minutes(s: pd.Series) -> pd.Series:
+    return s.round(0).astype("Int64").astype(str)
