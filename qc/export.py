@@ -69,17 +69,29 @@ def write_results(ev: Evaluation, output: Path, *, force: bool = False) -> Write
         t = ev.table
         if t.kind == "wide":
             beside, rows = _wide_part_verdicts(ev)
-            sheets = [SheetTable("Results", _results_sheet(ev), _FORMATS,
-                                 title_lines=_titles(ev)), *sheets]
+            table = _infinity_as_text(_results_sheet(ev), ("effective_dof",))
+            sheets = [SheetTable("Results", table, _FORMATS, title_lines=_titles(ev)), *sheets]
         else:
             beside, rows = ev.results[list(BESIDE_DATA)], list(t.data_rows)
+        beside = _infinity_as_text(beside, ("effective_dof",))
         return write_back(source, output, sheet=t.sheet or "", header_row=t.header_row,
                           data_rows=rows, last_column=_column_index(t.last_column),
                           results=beside, column_formats=formats, extra_sheets=sheets,
                           force=force)
-    data = ev.flat()
+    data = _infinity_as_text(ev.flat(), ("effective_dof",))
     return write_new_workbook(output, data=data, sheet_name="Results", column_formats=formats,
                               extra_sheets=sheets, force=force)
+
+
+def _infinity_as_text(frame: pd.DataFrame, columns: tuple[str, ...]) -> pd.DataFrame:
+    """Degrees of freedom of Type B inputs are infinite: shown as ∞ in a workbook cell."""
+    out = frame.copy()
+    for c in columns:
+        if c in out:
+            v = out[c].to_numpy(dtype=float)
+            out[c] = np.where(np.isinf(v), "∞", pd.Series(v, dtype=object)).astype(object)
+            out.loc[np.isnan(v), c] = None
+    return out
 
 
 def _column_index(letters: str | int) -> int:
@@ -129,9 +141,9 @@ def extra_sheets(ev: Evaluation) -> list[SheetTable]:
     """Budget, summary, actions and method sheets."""
     b = ev.budgets
     budget = SheetTable(
-        "Budget", b, {"estimate": "0.000E+00", "standard_uncertainty": "0.000E+00",
-                      "sensitivity": "0.000E+00", "contribution": "0.000E+00",
-                      "share": "0.0%", "dof": "0"},
+        "Budget", _infinity_as_text(b, ("dof",)),
+        {"estimate": "0.000E+00", "standard_uncertainty": "0.000E+00",
+         "sensitivity": "0.000E+00", "contribution": "0.000E+00", "share": "0.0%", "dof": "0"},
         title_lines=["Uncertainty budget (JCGM 100:2008): one row per contribution per "
                      "measurement; contribution = |c_i|·u(x_i) in the row's unit; the squares "
                      "of a row's contributions sum to its combined uncertainty squared.",

@@ -316,8 +316,11 @@ def _results(table: InspectionTable, m: MeasurementArrays, budget: BatchBudget,
         "capability_index": np.where(evaluated, decision.capability_index, np.nan),
         "uncertainty_ratio": np.where(evaluated, tur, np.nan),
         "margin_in_U": np.where(evaluated, decision.margin_in_U, np.nan),
-        "accept_low": length(decision.accept_low),
-        "accept_high": length(decision.accept_high),
+        # an open side (one-sided tolerance) has no acceptance limit: left empty
+        "accept_low": length(np.where(np.isfinite(decision.accept_low), decision.accept_low,
+                                      np.nan)),
+        "accept_high": length(np.where(np.isfinite(decision.accept_high), decision.accept_high,
+                                       np.nan)),
         "flags": flags,
         "message": message,
     }, index=frame.index)
