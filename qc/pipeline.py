@@ -188,7 +188,7 @@ def measurement_arrays(frame: pd.DataFrame, layout: Layout) -> MeasurementArrays
         repeat_nu=repeat_nu,
         resolution=np.nan_to_num(_col(frame, "resolution_mm"), nan=0.0),
         mpe_a=np.nan_to_num(_col(frame, "mpe_a_mm"), nan=0.0),
-        mpe_k=np.nan_to_num(_col(frame, "mpe_k_mm"), nan=np.inf),
+        mpe_k=_fill_nan(_col(frame, "mpe_k_mm"), np.inf),
         cert_U=cal_u,
         cert_k=1.0,
         scaled=frame["scaled"].to_numpy(dtype=bool) if "scaled" in frame else True,
@@ -206,6 +206,11 @@ def measurement_arrays(frame: pd.DataFrame, layout: Layout) -> MeasurementArrays
         dtheta=0.0,
         u_dtheta=grad,
     )
+
+
+def _fill_nan(a: np.ndarray, value: float) -> np.ndarray:
+    """NaN → value, leaving ±inf as they are (np.nan_to_num would clip them)."""
+    return np.where(np.isnan(a), value, a)
 
 
 def _default_accuracy(layout: Layout) -> float:

@@ -180,3 +180,13 @@ def test_readme_worked_row_is_what_qc_computes(demo) -> None:
              f"{row['combined_uncertainty']:.6f} | {row['coverage_factor']:.2f} | "
              f"{row['expanded_uncertainty']:.6f} | {row['verdict']} |")
     assert shown in readme
+
+
+def test_result_columns_are_the_documented_public_interface(demo) -> None:
+    from qc.results import FLAG_CODES, RESULT_COLUMNS
+
+    ev = evaluate_file(demo("spacers_inch.csv"))
+    assert tuple(ev.results.columns) == RESULT_COLUMNS
+    doc = (Path(__file__).resolve().parent.parent / "docs" / "columns.md").read_text("utf-8")
+    for name in (*RESULT_COLUMNS, *FLAG_CODES):
+        assert f"`{name}`" in doc, name

@@ -93,16 +93,17 @@ def explain(ev, i: int, mc) -> None:
     scale = {"mm": 1.0, "in": 25.4, "µm": 1e-3}.get(unit, 1.0)
     info(f"[bold]{f['part']} · {f['characteristic']}[/bold]  (row {f['source_row']}, "
          f"{f['source_sheet'] or f['source_file']})")
-    t = Table(title=f"Uncertainty budget (contributions in {unit})", title_justify="left")
-    for col in ("quantity", "estimate", "u(x_i)", "distribution", "ν", "c_i", "u_i(y)",
-                "share", "source"):
-        t.add_column(col, justify="left" if col in ("quantity", "distribution", "source")
-                     else "right")
-    for e in b.entries:
-        t.add_row(e.quantity, f"{_num(e.estimate)} {e.unit}", f"{_num(e.u)} {e.unit}",
-                  e.distribution, _num(e.dof, 3), _num(e.sensitivity),
-                  _num(e.contribution / scale), f"{e.share:.1%}", e.source)
+    t = Table(title=f"Uncertainty budget (u_i(y) in {unit})", title_justify="left")
+    for col in ("#", "quantity", "estimate", "u(x_i)", "distribution", "ν", "c_i", "u_i(y)",
+                "share"):
+        t.add_column(col, justify="left" if col in ("quantity", "distribution") else "right")
+    for n, e in enumerate(b.entries, 1):
+        t.add_row(str(n), e.quantity, f"{_num(e.estimate)} {e.unit}", f"{_num(e.u, 3)} {e.unit}",
+                  e.distribution, _num(e.dof, 3), _num(e.sensitivity, 3),
+                  _num(e.contribution / scale, 3), f"{e.share:.1%}")
     console.print(t)
+    for n, e in enumerate(b.entries, 1):
+        info(f"  {n}. {e.quantity}: {e.source}")
     if b.note:
         info(f"note: {b.note}")
     info(f"reading {_num(res['reading'], 8)} {unit} → size at {ev.settings.t_ref:g} °C "
