@@ -28,6 +28,8 @@ from qc.core.decision import (
 from qc.core.distributions import RECTANGULAR
 from qc.core.model import MeasurementArrays
 from qc.errors import ConfigError
+from qc.io.guard import Limits
+from qc.io.plausibility import check_plausibility
 from qc.io.reader import InspectionTable, read_inspection
 from qc.models import Layout
 from qc.results import (
@@ -118,10 +120,14 @@ def sha256_of(path: Path) -> str:
 
 
 def evaluate_file(path: Path | str, *, layout: Layout | None = None, sheet: str | None = None,
-                  register: Path | None = None, settings: Settings | None = None) -> Evaluation:
-    """Read one inspection file and evaluate every row (the input file is only read)."""
+                  register: Path | None = None, settings: Settings | None = None,
+                  limits: Limits | None = None) -> Evaluation:
+    """Read one inspection file and evaluate every row (the input file is only read).
+
+    ``limits`` are the safety limits for untrusted files (qc/data/limits.toml by default).
+    """
     path = Path(path)
-    table = read_inspection(path, layout=layout, sheet=sheet, register=register)
+    table = read_inspection(path, layout=layout, sheet=sheet, register=register, limits=limits)
     ev = evaluate_table(table, settings or Settings())
     ev.input_sha256 = sha256_of(path)
     ev.source = path
@@ -249,6 +255,9 @@ def evaluate_table(table: InspectionTable, settings: Settings) -> Evaluation:
     rule = _rule(table, settings)
     m = measurement_arrays(frame, table.layout)
     errors_by_row = _row_messages(table)
+    implausible, doubtful, plausibility_notes = check_plausibility(frame, columns=table.columns)
+    for i, msgs in implausible.items():
+        errors_by_row.setdefault(int(i), msgs)  # the reader's own message comes first
     has_error = np.zeros(len(frame), dtype=bool)
     has_error[list(errors_by_row)] = True
 
@@ -258,6 +267,7 @@ def evaluate_table(table: InspectionTable, settings: Settings) -> Evaluation:
     decision = decide(y, budget.U, budget.u_c, lsl, usl, rule, uncorrected=budget.uncorrected)
 
     results = _results(table, m, budget, decision, errors_by_row, settings)
+    _add_doubts(results, doubtful)
     ev = Evaluation(
         table=table, measurements=m, budget=budget, decision=decision, rule=rule,
         settings=settings, results=results,
@@ -267,9 +277,25 @@ def evaluate_table(table: InspectionTable, settings: Settings) -> Evaluation:
         actions=pd.DataFrame(),
     )
     ev.actions = actions_frame(ev.table.frame, results)
+    ev.notes.extend(plausibility_notes)
     if budget.reference_warning:
         ev.notes.append(budget.reference_warning)
     return ev
+
+
+def _add_doubts(results: pd.DataFrame, doubtful: dict[int, list[str]]) -> None:
+    """Plausibility warnings: the row is evaluated, flagged ``check-input``, the doubt in
+    ``message`` (e.g. a °F value in a °C column, a reading 25.4× its nominal)."""
+    if not doubtful:
+        return
+    rows = np.fromiter(doubtful, dtype=np.int64)
+    text = np.array(["; ".join(doubtful[int(i)]) for i in rows], dtype=object)
+    msg = results["message"].to_numpy(dtype=object).copy()
+    msg[rows] = np.where(msg[rows] == "", text, msg[rows] + "; " + text)
+    flags = results["flags"].to_numpy(dtype=object).copy()
+    flags[rows] = np.where(flags[rows] == "", "check-input", flags[rows] + ";check-input")
+    results["message"] = msg
+    results["flags"] = flags
 
 
 def _row_messages(table: InspectionTable) -> dict[int, list[str]]:

@@ -38,6 +38,8 @@ FLAG_CODES: dict[str, str] = {
     "soak-advised": "borderline or temperature-decided with the part off the gauge "
                     "temperature: let it soak and re-measure",
     "reference-not-20c": "sizes referred to a temperature other than 20 °C (ISO 1)",
+    "check-input": "a value looks implausible (see message): a likely unit mix-up or typing "
+                   "error",
 }
 
 

@@ -46,6 +46,31 @@ RefOpt = Annotated[float, typer.Option(
     "is marked with a warning in every output.")]
 
 
+def _limit_option(name: str, what: str):
+    return typer.Option(name, help=f"Safety limit for untrusted files: {what}.",
+                        rich_help_panel="Safety limits")
+
+
+MaxUncompressed = Annotated[float | None, _limit_option("--max-uncompressed-mb",
+                                                        "unpacked size of a workbook, MB")]
+MaxRatio = Annotated[float | None, _limit_option("--max-ratio", "compression ratio of a part")]
+MaxMembers = Annotated[int | None, _limit_option("--max-members", "parts in a workbook")]
+MaxRows = Annotated[int | None, _limit_option("--max-rows", "rows of a sheet")]
+MaxColumns = Annotated[int | None, _limit_option("--max-columns", "columns of a sheet")]
+MaxCells = Annotated[int | None, _limit_option("--max-cells", "used cells of a sheet")]
+MaxText = Annotated[float | None, _limit_option("--max-text-mb", "size of a CSV/TSV file, MB")]
+
+
+def _limits(**given: float | int | None):
+    """The bundled safety limits (qc/data/limits.toml), with the options given changed."""
+    changes = {k: v for k, v in given.items() if v is not None}
+    if not changes:
+        return None
+    from qc.io.guard import load_limits
+
+    return load_limits().replace(**changes)
+
+
 class FailOn(StrEnum):
     never = "never"
     nonconforming = "nonconforming"
@@ -112,12 +137,22 @@ def normalise(
     fail_on: Annotated[FailOn, typer.Option(help="Exit with status 1 when a row is "
                                             "nonconforming (or borderline too).")] =
     FailOn.never,
+    max_uncompressed_mb: MaxUncompressed = None,
+    max_ratio: MaxRatio = None,
+    max_members: MaxMembers = None,
+    max_rows: MaxRows = None,
+    max_columns: MaxColumns = None,
+    max_cells: MaxCells = None,
+    max_text_mb: MaxText = None,
 ) -> None:
     """Correct every reading to 20 °C, add its uncertainty and verdict, write the results."""
     from qc.export import default_output, write_results
     from qc.pipeline import evaluate_file
 
     settings = _settings(rule, coverage, k, reference_temperature, units.value)
+    limits = _limits(max_uncompressed_mb=max_uncompressed_mb, max_ratio=max_ratio,
+                     max_members=max_members, max_rows=max_rows, max_columns=max_columns,
+                     max_cells=max_cells, max_text_mb=max_text_mb)
     files = _inputs(input)
     worst = 0
     failed = 0
@@ -125,7 +160,7 @@ def normalise(
         for path in files:
             try:
                 ev = evaluate_file(path, layout=_layout(layout), sheet=sheet,
-                                   register=instruments, settings=settings)
+                                   register=instruments, settings=settings, limits=limits)
                 out = _output_for(path, output, len(files) > 1, default_output)
                 written = write_results(ev, out, force=force)
                 render.summary(ev, out, written)
@@ -174,6 +209,13 @@ def check(
     layout: LayoutOpt = None,
     sheet: SheetOpt = None,
     instruments: RegisterOpt = None,
+    max_uncompressed_mb: MaxUncompressed = None,
+    max_ratio: MaxRatio = None,
+    max_members: MaxMembers = None,
+    max_rows: MaxRows = None,
+    max_columns: MaxColumns = None,
+    max_cells: MaxCells = None,
+    max_text_mb: MaxText = None,
 ) -> None:
     """Validate a sheet without evaluating it: every problem with its place.
 
@@ -183,8 +225,11 @@ def check(
     from qc.io.reader import read_inspection
 
     try:
+        limits = _limits(max_uncompressed_mb=max_uncompressed_mb, max_ratio=max_ratio,
+                         max_members=max_members, max_rows=max_rows, max_columns=max_columns,
+                         max_cells=max_cells, max_text_mb=max_text_mb)
         table = read_inspection(input, layout=_layout(layout), sheet=sheet,
-                                register=instruments)
+                                register=instruments, limits=limits)
     except QcError as exc:
         raise _fail(exc) from None
     render.check(table)

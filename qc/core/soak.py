@@ -295,7 +295,8 @@ def soak_time(
     """Time (s) until a part at ``part_c`` resting in a room at ``room_c`` is within
     ``band_k`` of the room (or of ``gauge_c``), for one effective coefficient ``h``.
 
-    Lumped where Bi = h·L_c/k < 0.1 (Incropera eq. 5.6 solved for t), else the one-term
+    Lumped where Bi = h·L_c/k < 0.1 (Incropera eq. 5.6 solved for t; from Bi = 0.01 on, no
+    shorter than the one-term centre time), else the one-term
     product solution solved for t in closed form:
     t = (Σ ln C₁ᵢ − ln θ*) / (α·Σ ζ₁ᵢ²/Lᵢ²), α = k/(ρ·c).
     """
@@ -341,7 +342,12 @@ def soak_time(
     fo_min = diffusivity * t_series / longest**2
 
     lumped = biot < BIOT_LUMPED_LIMIT
-    centre = np.where(lumped, t_lumped, t_series)
+    # Near the limit the lumped time can be shorter than the one-term centre time (the core
+    # lags), so that a larger h would seem to take longer across Bi = 0.1. From Bi = 0.01 on,
+    # the lumped answer is kept no shorter than the one-term centre time (the safe side).
+    checked = lumped & (biot >= 0.01) & np.isfinite(t_series)
+    t_lumped_safe = np.where(checked, np.maximum(t_lumped, t_series), t_lumped)
+    centre = np.where(lumped, t_lumped_safe, t_series)
     surface = np.where(lumped, t_lumped, t_series_surface)
     never = ~(target > 0)
     inside = np.isinf(target) | (target >= 1.0)

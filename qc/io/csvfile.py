@@ -70,7 +70,7 @@ def read_delimited(path: Path, *, delimiter: str | None = None, decimal: str | N
         raw = path.read_bytes()
     except OSError as exc:
         raise FileReadError(f"{path.name}: cannot be opened ({exc.strerror})") from exc
-    if b"\x00" in raw[:4096]:
+    if b"\x00" in raw:
         raise FileReadError(f"{path.name}: not a text file (is it a workbook saved as .csv?)")
     text, note = _decode(raw, path.name)
     notes = [note] if note else []
@@ -83,7 +83,11 @@ def read_delimited(path: Path, *, delimiter: str | None = None, decimal: str | N
         else:
             delimiter = sniff_delimiter(lines[:200]) or ","
             notes.append(f"{path.name}: fields separated by {_NAMES[delimiter]} (detected)")
-    rows = list(csv.reader(io.StringIO(text), delimiter=delimiter))
+    try:
+        rows = list(csv.reader(io.StringIO(text), delimiter=delimiter))
+    except csv.Error as exc:  # e.g. an unclosed quote swallowing the rest of the file
+        raise FileReadError(f"{path.name}: cannot be read as delimited text ({exc}); "
+                            "look for an unclosed quote") from exc
     if decimal is None:
         sample = [f for r in rows[:2000] for f in r]
         decimal, clear = sniff_decimal(sample, delimiter)

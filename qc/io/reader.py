@@ -18,6 +18,7 @@ from qc.errors import FileReadError
 from qc.io.assemble import assemble
 from qc.io.csvfile import read_delimited
 from qc.io.grid import Grid, column_letter
+from qc.io.guard import Limits, guard_file
 from qc.io.headers import HeaderScan, find_header_row, suggest_field
 from qc.io.layout import load_layout
 from qc.io.raw import RawTable
@@ -69,12 +70,15 @@ class InspectionTable:
 
 def read_grid(path: Path, *, sheet: str | None = None, prefer: tuple[str, ...] = (),
               avoid: tuple[str, ...] = (), decimal: str | None = None,
-              delimiter: str | None = None) -> Grid:
-    """Read the cells of one sheet of any supported file."""
+              delimiter: str | None = None, limits: Limits | None = None) -> Grid:
+    """Read the cells of one sheet of any supported file, after the safety checks of
+    :func:`qc.io.guard.guard_file` (untrusted files: size, compression, XML entities)."""
     path = Path(path)
     if not path.exists():
         raise FileReadError(f"{path.name}: no such file")
     suffix = path.suffix.lower()
+    if suffix in WORKBOOK_SUFFIXES or suffix in TEXT_SUFFIXES:
+        guard_file(path, limits, delimiter=delimiter)
     if suffix in WORKBOOK_SUFFIXES:
         return read_workbook_sheet(path, sheet, prefer=prefer, avoid=avoid)
     if suffix in TEXT_SUFFIXES:
@@ -102,7 +106,7 @@ def _long_raw(grid: Grid, scan: HeaderScan) -> tuple[RawTable, list[int]]:
 
 def read_inspection(path: Path | str, *, layout: Layout | Path | str | None = None,
                     sheet: str | None = None, register: Path | str | None = None,
-                    ) -> InspectionTable:
+                    limits: Limits | None = None) -> InspectionTable:
     """Read one inspection sheet into validated, typed records; see docs/columns.md."""
     path = Path(path)
     if layout is not None and not isinstance(layout, Layout):
@@ -110,7 +114,7 @@ def read_inspection(path: Path | str, *, layout: Layout | Path | str | None = No
     lay = layout or Layout()
     decimal_opt = None if lay.decimal == "auto" else lay.decimal
     grid = read_grid(path, sheet=sheet or lay.sheet, decimal=decimal_opt,
-                     delimiter=lay.delimiter, avoid=REGISTER_SHEETS)
+                     delimiter=lay.delimiter, avoid=REGISTER_SHEETS, limits=limits)
     warnings = list(grid.notes)
     if not grid.cells.size or grid.blank().all():
         where = grid.file + (f" › {grid.sheet}" if grid.sheet else "")
@@ -152,6 +156,9 @@ def read_inspection(path: Path | str, *, layout: Layout | Path | str | None = No
             extra = f"; did you mean {' or '.join(repr(h) for h in hint)}?" if hint else ""
             warnings.append(f"{where} › {column_letter(c)}: header {text!r} not recognised, "
                             f"column ignored{extra}")
+    if not data_rows:
+        where = grid.file + (f" › {grid.sheet}" if grid.sheet else "")
+        raise FileReadError(f"{where}: no data rows under the header in row {header_row}")
     frame, errors = assemble(raw, lay, decimal=decimal, register=reg, notes=warnings)
     used = np.flatnonzero(~grid.blank().all(axis=0))
     last = int(used.max()) if len(used) else 0

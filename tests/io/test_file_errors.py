@@ -43,7 +43,11 @@ def test_damaged_workbook(tmp_path: Path) -> None:
     p.write_bytes(b"PK\x03\x04 not really a workbook")
     with pytest.raises(FileReadError) as e:
         read_inspection(p)
-    assert str(e.value).startswith("broken.xlsx: cannot be read as a spreadsheet (")
+    # refused by the safety checks before any reader opens it (qc/io/guard.py)
+    assert str(e.value) == (
+        "broken.xlsx: damaged or not a workbook: its ZIP directory is missing or broken (File "
+        "is not a zip file); the file may be truncated (an interrupted download or copy); ask "
+        "for the file again")
 
 
 def test_unknown_file_type_and_missing_file(tmp_path: Path) -> None:
@@ -73,7 +77,9 @@ def test_binary_saved_as_csv(tmp_path: Path) -> None:
     p.write_bytes(b"\x00\x01\x02PK")
     with pytest.raises(QcError) as e:
         read_inspection(p)
-    assert str(e.value) == "odd.csv: not a text file (is it a workbook saved as .csv?)"
+    assert str(e.value) == ("odd.csv: not a text file: it looks like binary data (not text, "
+                            "not a workbook); expected delimited text (CSV or TSV); export the "
+                            "sheet as CSV or .xlsx")
 
 
 def test_windows_1252_csv_is_read_with_a_note(tmp_path: Path) -> None:

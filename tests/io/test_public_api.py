@@ -12,7 +12,7 @@ def test_all_names_exist() -> None:
 
 def test_read_inspection_signature() -> None:
     params = inspect.signature(qc.io.read_inspection).parameters
-    assert list(params) == ["path", "layout", "sheet", "register"]
+    assert list(params) == ["path", "layout", "sheet", "register", "limits"]
     assert all(params[p].kind is inspect.Parameter.KEYWORD_ONLY
                for p in ("layout", "sheet", "register"))
 

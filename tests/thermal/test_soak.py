@@ -173,7 +173,9 @@ def test_lumped_and_one_term_agree_at_small_biot() -> None:
 
 def test_models_meet_within_ten_percent_at_the_biot_limit() -> None:
     # Across Bi = 0.1 the model switches; the centre time must not jump by more than 10 %
-    # (the core lag of the one-term solution is what the lumped model leaves out).
+    # (the core lag of the one-term solution is what the lumped model leaves out). Near the
+    # limit the lumped time is kept no shorter than the one-term centre time, so the times
+    # meet and a slightly larger h never takes longer.
     g = soak.sphere(60.0)
     k = 10.0
     h = 0.1 * k / (0.030 / 3)  # Bi = h·(r/3)/k = 0.1
@@ -181,7 +183,8 @@ def test_models_meet_within_ten_percent_at_the_biot_limit() -> None:
     series = soak.soak_time(30, 20, 0.5, 8000, 500, k, h * 1.001, g)
     assert (str(lumped.method), str(series.method)) == ("lumped", "one-term")
     assert float(series.centre_s) == pytest.approx(float(lumped.centre_s), rel=0.10)
-    assert float(series.centre_s) > float(lumped.centre_s)
+    assert float(series.centre_s) <= float(lumped.centre_s)
+    assert float(series.centre_s) == pytest.approx(float(lumped.centre_s), rel=0.01)
 
 
 # ---------------------------------------------------------------- bands, gauge, radiation

@@ -1,0 +1,670 @@
+"""Checks on an untrusted file before any reader opens it: kind, size, zip bombs, XML entities.
+
+Inspection workbooks come from customers, suppliers and other departments. Before a reader
+touches one, :func:`guard_file` decides, cheaply and in bounded memory, whether it is safe:
+
+* the file's first bytes (its "magic number") must fit its extension: a PDF, an image, an old
+  binary ``.xls`` or a CSV renamed ``.xlsx`` is named for what it is;
+* a ZIP-based workbook (``.xlsx``, ``.xlsm``, ``.ods``) is judged from its central directory
+  alone, without decompressing: member count, total unpacked size, compression ratio of each
+  member, encrypted or overlapping members;
+* every XML part is then streamed through expat in fixed-size chunks, refusing any document
+  type declaration (so no entity can be declared: no "billion laughs", no external entity), and
+  the used area of each worksheet (``<dimension ref>`` and the cell references themselves) is
+  compared with the row, column and cell limits;
+* a text file is checked for size, binary content, encoding (UTF-8, else Windows-1252 with a
+  note) and separators that change from line to line.
+
+Macros in ``.xlsm`` files are never run: nothing in ``qc`` executes workbook content.
+The limits and their reasons are in ``qc/data/limits.toml``; each message names the command-line
+option that raises a limit.
+"""
+
+from __future__ import annotations
+
+import codecs
+import contextlib
+import csv
+import dataclasses
+import re
+import struct
+import tomllib
+import zipfile
+import zlib
+from collections import Counter
+from dataclasses import dataclass
+from functools import cache
+from importlib import resources
+from itertools import pairwise
+from pathlib import Path
+from typing import Any
+from xml.parsers import expat
+
+from qc.errors import DataFileError, FileReadError, LimitExceededError
+from qc.io.csvfile import sniff_delimiter
+from qc.io.xlsx_package import parse_range_ref
+
+__all__ = ["OPTIONS", "Limits", "check_file", "describe_bytes", "guard_file", "load_limits"]
+
+WORKBOOK_SUFFIXES = (".xlsx", ".xlsm", ".ods")
+TEXT_SUFFIXES = (".csv", ".tsv", ".txt")
+_MB = 1024 * 1024
+_CHUNK = 256 * 1024  # bytes per read; memory stays at a few chunks whatever the file's size
+_FORMAT_VERSION = 1
+
+
+# --- limits ---------------------------------------------------------------------------------
+
+
+@cache
+def _limits_table() -> dict[str, dict[str, Any]]:
+    """The [limits] table of the bundled limits.toml, validated once."""
+    text = resources.files("qc").joinpath("data", "limits.toml").read_text("utf-8")
+    return _validated(tomllib.loads(text), "limits.toml")
+
+
+def _validated(doc: dict[str, Any], label: str) -> dict[str, dict[str, Any]]:
+    if doc.get("format_version") != _FORMAT_VERSION:
+        raise DataFileError(f"{label}: expected format_version = {_FORMAT_VERSION}, "
+                            f"got {doc.get('format_version')!r}")
+    table = doc.get("limits")
+    if not isinstance(table, dict):
+        raise DataFileError(f"{label}: expected a [limits] table")
+    for name, entry in table.items():
+        where = f"{label} › limits.{name}"
+        if not isinstance(entry, dict):
+            raise DataFileError(f"{where}: expected a table with value, option and source")
+        value = entry.get("value")
+        if isinstance(value, bool) or not isinstance(value, int | float) or value <= 0:
+            raise DataFileError(f"{where} › value: expected a positive number, got {value!r}")
+        for key in ("option", "source"):
+            if not isinstance(entry.get(key), str) or not entry[key].strip():
+                raise DataFileError(f"{where} › {key}: expected a non-empty text")
+    return table
+
+
+def _default(name: str) -> Any:
+    return _limits_table()[name]["value"]
+
+
+@dataclass(frozen=True)
+class Limits:
+    """Safety limits for opening one file; defaults from qc/data/limits.toml (sizes in MiB)."""
+
+    max_uncompressed_mb: float = _default("max_uncompressed_mb")
+    max_ratio: float = _default("max_ratio")
+    ratio_min_mb: float = _default("ratio_min_mb")
+    max_members: int = _default("max_members")
+    max_rows: int = _default("max_rows")
+    max_columns: int = _default("max_columns")
+    max_cells: int = _default("max_cells")
+    max_text_mb: float = _default("max_text_mb")
+
+    def replace(self, **changes: Any) -> Limits:
+        """A copy with some limits changed (e.g. from command-line options)."""
+        return dataclasses.replace(self, **changes)
+
+
+#: Limit field → command-line option that raises it.
+OPTIONS: dict[str, str] = {name: e["option"] for name, e in _limits_table().items()}
+
+
+def load_limits() -> Limits:
+    """The default limits (bundled limits.toml)."""
+    return Limits()
+
+
+def _too_big(name: str, found: str, field: str, limit: float, unit: str,
+             why: str) -> LimitExceededError:
+    return LimitExceededError(
+        f"{name}: {found}, more than the limit of {_number(limit)}{unit}; {why}. The file was not "
+        f"opened. If you trust it, raise the limit with {OPTIONS[field]}"
+    )
+
+
+def _number(x: float) -> str:
+    return f"{int(x):,}" if float(x).is_integer() else f"{x:g}"
+
+
+# --- what a file looks like -------------------------------------------------------------------
+
+_MAGIC: tuple[tuple[bytes, str], ...] = (
+    (b"PK\x03\x04", "a ZIP archive"),
+    (b"PK\x05\x06", "an empty ZIP archive"),
+    (b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1",
+     "an older binary Office file (.xls) or a password-protected workbook"),
+    (b"%PDF", "a PDF document"),
+    (b"\x89PNG\r\n\x1a\n", "a PNG image"),
+    (b"\xff\xd8\xff", "a JPEG image"),
+    (b"GIF87a", "a GIF image"),
+    (b"GIF89a", "a GIF image"),
+    (b"II*\x00", "a TIFF image"),
+    (b"MM\x00*", "a TIFF image"),
+    (b"\x1f\x8b", "a gzip-compressed file"),
+    (b"7z\xbc\xaf\x27\x1c", "a 7-Zip archive"),
+    (b"Rar!", "a RAR archive"),
+    (b"\x7fELF", "a program (ELF executable)"),
+    (b"MZ", "a Windows program or library"),
+    (b"{\\rtf", "a rich-text (RTF) document"),
+    (b"\xff\xfe", "text in UTF-16 (as saved by 'Unicode Text')"),
+    (b"\xfe\xff", "text in UTF-16 (as saved by 'Unicode Text')"),
+)
+#: Signatures of a local file header, an empty archive (end of central directory) and a split
+#: archive (PKWARE APPNOTE.TXT 6.3: 4.3.7, 4.3.16, 8.5.3; the last from memory).
+_ZIP_MAGIC = (b"PK\x03\x04", b"PK\x05\x06", b"PK\x07\x08")
+_CONTROL = re.compile(rb"[\x00-\x08\x0b\x0e-\x1f]")
+
+
+def describe_bytes(head: bytes) -> str:
+    """What the first bytes of a file look like, in words ('a PDF document', 'text')."""
+    if not head:
+        return "an empty file"
+    for magic, words in _MAGIC:
+        if head.startswith(magic):
+            return words
+    stripped = head.lstrip(b"\xef\xbb\xbf \t\r\n")
+    if b"\x00" in head or len(_CONTROL.findall(head)) > max(2, len(head) // 100):
+        return "binary data (not text, not a workbook)"
+    if stripped[:1] == b"<":
+        return "an XML or HTML document (such as a web page or an 'XML Spreadsheet 2003')"
+    return "text (such as CSV)"
+
+
+def _head(path: Path, n: int = 8192) -> bytes:
+    try:
+        with path.open("rb") as fh:
+            return fh.read(n)
+    except OSError as exc:
+        raise FileReadError(f"{path.name}: cannot be opened ({exc.strerror})") from exc
+
+
+# --- entry points -----------------------------------------------------------------------------
+
+
+def guard_file(path: Path, limits: Limits | None = None, *, delimiter: str | None = None) -> None:
+    """Refuse a file that is unsafe or not what its name says, before any reader opens it.
+
+    Raises FileReadError (wrong kind, damaged, binary, unsafe XML, mixed separators) or
+    LimitExceededError (over a limit of ``limits``). ``delimiter`` is the layout's separator
+    for text files (None: sniffed as the reader does).
+    """
+    check_file(path, limits, delimiter=delimiter)
+
+
+def check_file(path: Path, limits: Limits | None = None, *,
+               delimiter: str | None = None) -> list[str]:
+    """Same checks as :func:`guard_file`; returns file-level notes (e.g. 'read as Windows-1252')."""
+    path = Path(path)
+    lim = limits or Limits()
+    if not path.is_file():
+        raise FileReadError(f"{path.name}: no such file")
+    head = _head(path)
+    if not head:
+        raise FileReadError(f"{path.name}: the file is empty (0 bytes)")
+    suffix = path.suffix.lower()
+    looks = describe_bytes(head)
+    if suffix in WORKBOOK_SUFFIXES:
+        if not head.startswith(_ZIP_MAGIC):
+            hint = ("rename it to .csv" if looks.startswith("text")
+                    else "open it in its own program and save the sheet as .xlsx")
+            raise FileReadError(
+                f"{path.name}: damaged or not a workbook: the file looks like {looks}, but a "
+                f"{suffix} workbook is a ZIP package; {hint}"
+            )
+        return _check_package(path, suffix, lim)
+    if suffix in TEXT_SUFFIXES:
+        if head.startswith(_ZIP_MAGIC):
+            kind = _package_kind_quiet(path)
+            raise FileReadError(
+                f"{path.name}: not a text file: it looks like {kind}; give it its own "
+                "extension (.xlsx, .xlsm or .ods) and read it as a workbook"
+            )
+        if "UTF-16" in looks:
+            raise FileReadError(
+                f"{path.name}: the text is in UTF-16 (as saved by 'Unicode Text'), which is not "
+                "read; save the sheet as 'CSV UTF-8' instead"
+            )
+        if not looks.startswith(("text (", "an XML")):
+            raise FileReadError(
+                f"{path.name}: not a text file: it looks like {looks}; expected delimited text "
+                "(CSV or TSV); export the sheet as CSV or .xlsx"
+            )
+        return _check_text(path, lim, delimiter)
+    return []  # other extensions: the reader names what it accepts
+
+
+# --- ZIP packages -----------------------------------------------------------------------------
+
+_ZIP_ERRORS = (zipfile.BadZipFile, zipfile.LargeZipFile, OSError, ValueError, EOFError,
+               NotImplementedError, struct.error, zlib.error, KeyError, IndexError)
+_DAMAGED = "damaged or not a workbook"
+
+
+def _open_zip(path: Path) -> zipfile.ZipFile:
+    try:
+        return zipfile.ZipFile(path)
+    except _ZIP_ERRORS as exc:
+        raise FileReadError(
+            f"{path.name}: {_DAMAGED}: its ZIP directory is missing or broken ({exc}); the file "
+            "may be truncated (an interrupted download or copy); ask for the file again"
+        ) from exc
+
+
+def _package_kind(zf: zipfile.ZipFile) -> str:
+    """'xlsx', 'ods', or words for another kind of ZIP archive."""
+    names = set(zf.namelist())
+    if "[Content_Types].xml" in names and any(n.startswith("xl/") for n in names):
+        return "xlsx"
+    if "mimetype" in names:
+        info = zf.getinfo("mimetype")
+        if info.file_size <= 200:
+            mime = zf.read("mimetype").decode("ascii", "replace").strip()
+            if mime == "application/vnd.oasis.opendocument.spreadsheet":
+                return "ods"
+            return f"an OpenDocument file of type {mime!r}, not a spreadsheet"
+    if any(n.startswith("word/") for n in names):
+        return "a Word document (.docx)"
+    if any(n.startswith("ppt/") for n in names):
+        return "a PowerPoint presentation (.pptx)"
+    return "a ZIP archive that holds no workbook"
+
+
+def _package_kind_quiet(path: Path) -> str:
+    try:
+        with zipfile.ZipFile(path) as zf:
+            kind = _package_kind(zf)
+    except _ZIP_ERRORS:
+        return "a damaged ZIP archive"
+    return {"xlsx": "an Excel workbook (.xlsx/.xlsm)", "ods": "an OpenDocument spreadsheet (.ods)"
+            }.get(kind, kind)
+
+
+def _check_package(path: Path, suffix: str, lim: Limits) -> list[str]:
+    notes: list[str] = []
+    with _open_zip(path) as zf:
+        try:
+            infos = zf.infolist()
+            _check_directory(path, infos, lim)
+            kind = _package_kind(zf)
+        except (LimitExceededError, FileReadError):
+            raise
+        except _ZIP_ERRORS as exc:
+            raise FileReadError(f"{path.name}: {_DAMAGED}: {exc}") from exc
+        want = "ods" if suffix == ".ods" else "xlsx"
+        if kind != want:
+            words = {"xlsx": "an Excel workbook (.xlsx/.xlsm)",
+                     "ods": "an OpenDocument spreadsheet (.ods)"}.get(kind, kind)
+            raise FileReadError(
+                f"{path.name}: not a {suffix} workbook: it looks like {words}"
+                + ("; rename it to match" if kind in ("xlsx", "ods") else "")
+            )
+        if any(i.filename.lower().endswith("vbaproject.bin") for i in infos):
+            notes.append(f"{path.name}: the workbook contains macros; they are kept when "
+                         "written back and never run")
+        for info in infos:
+            if info.filename.lower().endswith((".xml", ".rels")):
+                _scan_xml(path, zf, info, lim)
+    return notes
+
+
+def _check_directory(path: Path, infos: list[zipfile.ZipInfo], lim: Limits) -> None:
+    """Decisions from the central directory alone: nothing is decompressed here."""
+    name = path.name
+    if not infos:
+        raise FileReadError(f"{name}: {_DAMAGED}: the ZIP archive holds no files")
+    if len(infos) > lim.max_members:
+        raise _too_big(name, f"the package holds {len(infos)} files", "max_members",
+                       lim.max_members, " files", "a workbook holds a few dozen parts")
+    size = path.stat().st_size
+    for info in infos:
+        if info.flag_bits & 0x1:
+            raise FileReadError(
+                f"{name}: the part {info.filename} is encrypted (password-protected); "
+                "save the workbook again without a password"
+            )
+        if info.header_offset + info.compress_size > size:
+            raise FileReadError(
+                f"{name}: {_DAMAGED}: the part {info.filename} ends beyond the end of the "
+                "file (the file is truncated); ask for the file again"
+            )
+    total = sum(i.file_size for i in infos)
+    if total > lim.max_uncompressed_mb * _MB:
+        raise _too_big(name, f"the package unpacks to {total / _MB:,.0f} MB",
+                       "max_uncompressed_mb", lim.max_uncompressed_mb, " MB",
+                       "that is how a 'zip bomb' looks, or the workbook is far larger than an "
+                       "inspection sheet")
+    for info in infos:
+        if info.file_size >= lim.ratio_min_mb * _MB:
+            ratio = info.file_size / max(info.compress_size, 1)
+            if ratio > lim.max_ratio:
+                raise _too_big(
+                    name, f"the part {info.filename} is compressed {ratio:,.0f}:1", "max_ratio",
+                    lim.max_ratio, ":1", "that is how a 'zip bomb' looks")
+    spans = sorted((i.header_offset, i.header_offset + i.compress_size, i.filename)
+                   for i in infos)
+    for (_, end, first), (start, _, second) in pairwise(spans):
+        if start < end:
+            raise FileReadError(
+                f"{name}: {_DAMAGED}: the parts {first} and {second} overlap in the file "
+                "(a crafted or corrupt archive)"
+            )
+
+
+_DIMENSION = re.compile(rb'<(?:\w+:)?dimension\b[^>]*?\sref="([^"]*)"')
+_REF_COLUMNS = re.compile(rb' r="([A-Z]{1,3})[0-9]')
+_REF_ROWS = re.compile(rb' r="[A-Z]{1,3}([0-9]{1,9})"')
+# A declaration can only stand in the prolog for expat, but other parsers are laxer: the whole
+# part is also searched for it, in UTF-8 and UTF-16 spellings (bytes.find runs at C speed).
+_DECLARATIONS = tuple(word.encode(enc) for word in ("<!DOCTYPE", "<!ENTITY")
+                      for enc in ("utf-8", "utf-16-le", "utf-16-be"))
+_OVERLAP = max(len(d) for d in _DECLARATIONS)
+
+
+def _col_index(letters: bytes) -> int:
+    n = 0
+    for ch in letters:
+        n = n * 26 + ch - 64
+    return n
+
+
+class _Extent:
+    """Rows, columns and cells of a worksheet part, from bytes scanned chunk by chunk.
+
+    Cells are placed by their ``r`` reference, so the used area runs from A1 to the largest
+    row and column referenced (or declared in ``<dimension ref>``), whatever lies between.
+    """
+
+    def __init__(self) -> None:
+        self.rows = self.cols = self.cells = self.row_tags = 0
+        self.dimension: tuple[int, int] | None = None
+
+    def feed(self, data: bytes) -> None:
+        if self.dimension is None and b"dimension" in data:
+            m = _DIMENSION.search(data)
+            rng = parse_range_ref(m[1].decode("ascii", "replace")) if m else None
+            if rng is not None:
+                self.dimension = (rng[2], rng[3])
+        self.cells += data.count(b"<c ") + data.count(b"<c>")
+        self.row_tags += data.count(b"<row ") + data.count(b"<row>")
+        cols = set(_REF_COLUMNS.findall(data))
+        if cols:
+            self.cols = max(self.cols, *(_col_index(c) for c in cols))
+        rows = _REF_ROWS.findall(data)
+        if rows:
+            self.rows = max(self.rows, *map(int, set(rows)))
+
+
+_TABLE_NS = "urn:oasis:names:tc:opendocument:xmlns:table:1.0"
+_OFFICE_NS = "urn:oasis:names:tc:opendocument:xmlns:office:1.0"
+_CELLS = (f"{_TABLE_NS} table-cell", f"{_TABLE_NS} covered-table-cell")
+
+
+def _repeat(attrs: dict[str, str], name: str) -> int:
+    try:
+        return max(1, int(attrs.get(f"{_TABLE_NS} {name}", "1")))
+    except ValueError:
+        return 1
+
+
+class _OdsExtent:
+    """Used area of each table of an OpenDocument content.xml, repeats included.
+
+    The attributes ``table:number-rows-repeated`` and ``table:number-columns-repeated``
+    (OpenDocument 1.2, Part 1, from memory) let a few bytes stand for millions of cells, and
+    readers expand repeated cells that hold a value (checked with python-calamine); empty
+    repeats, which spreadsheet programs write for trailing formatting, are not counted.
+    """
+
+    def __init__(self, check: Any) -> None:
+        self.check = check  # called with (table name, rows, columns)
+        self.table = ""
+        self.row = self.last_row = self.cols = 0
+        self.row_repeat = self.col = self.cell_repeat = 0
+        self.row_content = self.cell_content = False
+        self.depth_in_cell = 0
+
+    def start(self, name: str, attrs: dict[str, str]) -> None:
+        if self.depth_in_cell:
+            self.depth_in_cell += 1
+            self.cell_content = True  # a paragraph or annotation inside the cell
+        elif name in _CELLS:
+            self.depth_in_cell = 1
+            self.cell_repeat = _repeat(attrs, "number-columns-repeated")
+            self.cell_content = f"{_OFFICE_NS} value-type" in attrs
+        elif name == f"{_TABLE_NS} table-row":
+            self.row_repeat = _repeat(attrs, "number-rows-repeated")
+            self.col = 0
+            self.row_content = False
+        elif name == f"{_TABLE_NS} table":
+            self.table = attrs.get(f"{_TABLE_NS} name", "")
+            self.row = self.last_row = self.cols = 0
+
+    def end(self, name: str) -> None:
+        if self.depth_in_cell > 1:
+            self.depth_in_cell -= 1
+            return
+        if self.depth_in_cell == 1:
+            self.depth_in_cell = 0
+            if self.cell_content:
+                self.cols = max(self.cols, self.col + self.cell_repeat)
+                self.row_content = True
+            self.col += self.cell_repeat
+        elif name == f"{_TABLE_NS} table-row":
+            if self.row_content:
+                self.last_row = self.row + self.row_repeat
+                self.check(self.table, self.last_row, self.cols)
+            self.row += self.row_repeat
+
+
+class _RootReached(Exception):
+    """The prolog is over: no document type declaration can follow for expat."""
+
+
+def _scan_xml(path: Path, zf: zipfile.ZipFile, info: zipfile.ZipInfo, lim: Limits) -> None:
+    """Refuse DTDs in one XML part (expat on the prolog, byte search on the rest); for a
+    worksheet, check its used area. Reads the part in chunks: memory stays bounded."""
+    part = info.filename
+    name = path.name
+    message = (
+        f"{name}: the workbook part {part} declares a document type (DOCTYPE/ENTITY); such "
+        "declarations can expand to gigabytes ('billion laughs') or fetch other files, and "
+        "no spreadsheet program writes them; the file was not opened"
+    )
+
+    def refuse(*_args: object) -> None:
+        raise FileReadError(message)
+
+    def root(*_args: object) -> None:
+        raise _RootReached
+
+    parser = expat.ParserCreate()
+    parser.StartDoctypeDeclHandler = refuse
+    parser.EntityDeclHandler = refuse
+    parser.ExternalEntityRefHandler = refuse  # type: ignore[assignment]
+    parser.StartElementHandler = root
+    in_prolog = True
+    sheet = part.lower().startswith(("xl/worksheets/", "xl/chartsheets/")) and part.endswith(".xml")
+    extent = _Extent() if sheet else None
+    ods = None
+    if part == "content.xml":  # OpenDocument: the tables are here; parsed in full, streaming
+        def check(table: str, rows: int, cols: int) -> None:
+            e = _Extent()
+            e.rows, e.cols = rows, cols
+            _check_extent(name, f"table '{table}' of content.xml", e, lim, ods=True)
+
+        tables = _OdsExtent(check)
+        ods = expat.ParserCreate(namespace_separator=" ")
+        ods.StartDoctypeDeclHandler = refuse
+        ods.EntityDeclHandler = refuse
+        ods.ExternalEntityRefHandler = refuse  # type: ignore[assignment]
+        ods.StartElementHandler = tables.start
+        ods.EndElementHandler = tables.end
+    tail = b""
+    last = b""
+    try:
+        with zf.open(info) as fh:
+            while chunk := fh.read(_CHUNK):
+                if in_prolog:
+                    try:
+                        parser.Parse(chunk, False)
+                    except _RootReached:
+                        in_prolog = False
+                if ods is not None:
+                    ods.Parse(chunk, False)
+                window = last + chunk
+                if any(d in window for d in _DECLARATIONS):
+                    refuse()
+                last = chunk[-_OVERLAP:]
+                if extent is not None:
+                    buf = tail + chunk
+                    cut = buf.rfind(b">") + 1
+                    if cut == 0 and len(buf) > 4 * _CHUNK:
+                        cut = len(buf)  # a long text node: nothing of interest split
+                    extent.feed(buf[:cut])
+                    tail = buf[cut:]
+                    _check_extent(name, part, extent, lim)
+            if in_prolog:
+                with contextlib.suppress(_RootReached):
+                    parser.Parse(b"", True)
+            if ods is not None:
+                ods.Parse(b"", True)
+    except (FileReadError, LimitExceededError):
+        raise
+    except expat.ExpatError as exc:
+        raise FileReadError(f"{name}: {_DAMAGED}: the part {part} is not well-formed XML "
+                            f"({exc})") from exc
+    except _ZIP_ERRORS as exc:
+        raise FileReadError(f"{name}: {_DAMAGED}: the part {part} cannot be unpacked "
+                            f"({exc})") from exc
+    if extent is not None:
+        extent.feed(tail)
+        _check_extent(name, part, extent, lim)
+
+
+def _check_extent(name: str, part: str, e: _Extent, lim: Limits, *, ods: bool = False) -> None:
+    rows = max(e.rows, e.row_tags, e.dimension[0] if e.dimension else 0)
+    cols = max(e.cols, e.dimension[1] if e.dimension else 0)
+    where = part if ods else f"the sheet {part}"
+    if rows > lim.max_rows:
+        raise _too_big(name, f"{where} reaches row {rows:,}", "max_rows", lim.max_rows, " rows",
+                       "an inspection sheet this long is unlikely; check for a stray cell far "
+                       "below the data")
+    if cols > lim.max_columns:
+        raise _too_big(name, f"{where} reaches column {cols:,}", "max_columns",
+                       lim.max_columns, " columns", "check for a stray cell far to the right")
+    area = rows * cols
+    if max(area, e.cells) > lim.max_cells:
+        raise _too_big(name, f"{where} spans {max(area, e.cells):,} cells ({rows:,} rows × "
+                       f"{cols:,} columns)", "max_cells", lim.max_cells, " cells",
+                       "every cell of the used area is held in memory; delete stray cells far "
+                       "from the data")
+
+
+# --- text files -------------------------------------------------------------------------------
+
+
+def _decoding(path: Path) -> str:
+    """'utf-8-sig' or 'cp1252': the first that decodes the whole file, read in chunks."""
+    for enc in ("utf-8-sig", "cp1252"):
+        dec = codecs.getincrementaldecoder(enc)()
+        try:
+            with path.open("rb") as fh:
+                while chunk := fh.read(_CHUNK):
+                    if b"\x00" in chunk:
+                        raise FileReadError(
+                            f"{path.name}: not a text file: it holds NUL bytes, as binary data "
+                            "does; expected delimited text (CSV or TSV)")
+                    dec.decode(chunk)
+                dec.decode(b"", True)
+        except UnicodeDecodeError:
+            continue
+        return enc
+    raise FileReadError(f"{path.name}: the text encoding cannot be recognised: it is neither "
+                        "UTF-8 nor Windows-1252; save it again as 'CSV UTF-8'")
+
+
+def _check_text(path: Path, lim: Limits, delimiter: str | None) -> list[str]:
+    name = path.name
+    size = path.stat().st_size
+    if size > lim.max_text_mb * _MB:
+        raise _too_big(name, f"the file is {size / _MB:,.0f} MB", "max_text_mb",
+                       lim.max_text_mb, " MB", "the whole text is read into memory")
+    enc = _decoding(path)
+    notes = [] if enc == "utf-8-sig" else [
+        f"{name}: not UTF-8; read as Windows-1252 (Western European)"]
+    with path.open("r", encoding=enc, newline="") as fh:
+        sample = [ln for _, ln in zip(range(200), fh, strict=False)]
+    try:
+        if delimiter is None:
+            delimiter = ("\t" if path.suffix.lower() == ".tsv"
+                         else (sniff_delimiter(sample) or ","))
+        widths = Counter(len(r) for r in csv.reader(sample, delimiter=delimiter) if any(r))
+    except csv.Error as exc:
+        raise _unsplittable(name, None, exc) from exc
+    typical = max(widths, key=lambda w: (widths[w], w)) if widths else 0
+    mixed: list[tuple[int, str]] = []
+    ragged: list[int] = []
+    n_rows = width = 0
+    with path.open("r", encoding=enc, newline="") as fh:
+        reader = csv.reader(fh, delimiter=delimiter)
+        start = 1
+        try:
+            for row in reader:
+                n_rows += 1
+                width = max(width, len(row))
+                if n_rows > lim.max_rows or width > lim.max_columns:
+                    break  # reported below; no need to read on
+                if typical > 1 and len(row) != typical and any(f.strip() for f in row):
+                    other = _other_delimiter(delimiter.join(row), delimiter, typical)
+                    if other is not None:
+                        mixed.append((start, other))
+                    elif len(row) > 1:  # a one-field line is a title or a remark
+                        ragged.append(start)
+                    del mixed[11:], ragged[11:]  # enough to name; memory stays bounded
+                start = reader.line_num + 1
+        except csv.Error as exc:
+            raise _unsplittable(name, start, exc) from exc
+    if n_rows > lim.max_rows:
+        raise _too_big(name, f"the file has {n_rows:,} rows", "max_rows", lim.max_rows, " rows",
+                       "an inspection sheet this long is unlikely")
+    if width > lim.max_columns:
+        raise _too_big(name, f"a row has {width:,} fields", "max_columns", lim.max_columns,
+                       " columns", "check the separator")
+    if n_rows * width > lim.max_cells:
+        raise _too_big(name, f"the file spans {n_rows * width:,} cells", "max_cells",
+                       lim.max_cells, " cells", "every cell is held in memory")
+    if mixed:
+        rows = ", ".join(str(r) for r, _ in mixed[:10]) + (" …" if len(mixed) > 10 else "")
+        words = _DELIM_NAMES.get(mixed[0][1], repr(mixed[0][1]))
+        raise FileReadError(
+            f"{name}: mixed separators: most rows have {typical} fields separated by "
+            f"{_DELIM_NAMES.get(delimiter, repr(delimiter))}, but rows {rows} split into "
+            f"{typical} fields only by {words}; save the file again with one separator, or "
+            "name the separator in the layout file (delimiter = ...)"
+        )
+    if ragged:
+        rows = ", ".join(str(r) for r in ragged[:10]) + (" …" if len(ragged) > 10 else "")
+        notes.append(f"{name}: rows {rows} have another number of fields than the "
+                     f"{typical} of most rows; check them for a separator inside unquoted text")
+    return notes
+
+
+def _unsplittable(name: str, row: int | None, exc: csv.Error) -> FileReadError:
+    where = f"{name} › row {row}" if row else name
+    hint = (f"a field is longer than {csv.field_size_limit():,} characters (an unclosed quote?)"
+            if "field limit" in str(exc) else str(exc))
+    near = "in that row" if row else "in the first lines"
+    return FileReadError(f"{where}: the text cannot be split into fields: {hint}; check the "
+                         f"quotes {near}")
+
+
+_DELIM_NAMES = {";": "semicolons", ",": "commas", "\t": "tabs", "|": "vertical bars"}
+
+
+def _other_delimiter(line: str, used: str, width: int) -> str | None:
+    """Another separator that splits the line into the file's usual number of fields."""
+    for d in (";", ",", "\t", "|"):
+        if d != used and len(next(csv.reader([line], delimiter=d))) == width:
+            return d
+    return None
+
