@@ -34,6 +34,7 @@ from qc.io.reader import InspectionTable, read_inspection
 from qc.models import Layout
 from qc.results import (
     actions_frame,
+    band_actions,
     budget_frame,
     characteristic_frame,
     soak_advice,
@@ -276,7 +277,10 @@ def evaluate_table(table: InspectionTable, settings: Settings) -> Evaluation:
         characteristics=characteristic_frame(table.frame, results, settings.tolerance_share),
         actions=pd.DataFrame(),
     )
-    ev.actions = actions_frame(ev.table.frame, results)
+    ev.actions = pd.concat(
+        [actions_frame(ev.table.frame, results),
+         band_actions(ev.table.frame, ev.characteristics, settings.tolerance_share)],
+        ignore_index=True)
     ev.notes.extend(plausibility_notes)
     if budget.reference_warning:
         ev.notes.append(budget.reference_warning)

@@ -16,6 +16,7 @@ __all__ = [
     "FLAG_CODES",
     "RESULT_COLUMNS",
     "actions_frame",
+    "band_actions",
     "budget_frame",
     "characteristic_frame",
     "soak_advice",
@@ -214,6 +215,37 @@ def actions_frame(frame: pd.DataFrame, results: pd.DataFrame) -> pd.DataFrame:
         return pd.DataFrame(columns=columns)
     return pd.concat(entries, ignore_index=True).sort_values(
         ["source_row"], kind="stable").reset_index(drop=True)
+
+
+def band_actions(frame: pd.DataFrame, characteristics: pd.DataFrame,
+                 share: float) -> pd.DataFrame:
+    """One line per characteristic: the temperature band it may be measured in (qc.core.band)."""
+    c = characteristics[np.isfinite(characteristics["band_low_c"].to_numpy(dtype=float))]
+    if c.empty:
+        return pd.DataFrame(columns=["source_row", "part", "characteristic", "action", "reason"])
+    first = frame.groupby(frame["characteristic"].fillna(""), sort=False)["source_row"].first()
+    rows = first.reindex(c["characteristic"]).to_numpy()
+    reason = ("uncorrected " + _band_text(c["band_low_c"], c["band_high_c"])
+              + f" keeps the thermal error within {share:.0%} of the tolerance; corrected to "
+              "20 °C (±0.5 °C thermometer) "
+              + _band_text(c["band_corrected_low_c"], c["band_corrected_high_c"]))
+    return pd.DataFrame({"source_row": rows, "part": "(all)",
+                         "characteristic": c["characteristic"].to_numpy(),
+                         "action": "measure within the temperature band",
+                         "reason": reason.to_numpy()})
+
+
+#: The range of shop temperatures a band is stated within (common practice, no source).
+SHOP_RANGE_C = (0.0, 40.0)
+
+
+def _band_text(low: pd.Series, high: pd.Series) -> pd.Series:
+    """'17.2 to 22.8 °C', or 'anywhere from 0 to 40 °C' when the band covers any shop."""
+    lo, hi = SHOP_RANGE_C
+    a = low.clip(lower=lo).round(1).astype(str)
+    b = high.clip(upper=hi).round(1).astype(str)
+    text = a + " to " + b + " °C"
+    return text.where(~((low <= lo) & (high >= hi)), f"anywhere from {lo:g} to {hi:g} °C")
 
 
 def _minutes(s: pd.Series) -> pd.Series:
