@@ -190,3 +190,25 @@ def test_result_columns_are_the_documented_public_interface(demo) -> None:
     doc = (Path(__file__).resolve().parent.parent / "docs" / "columns.md").read_text("utf-8")
     for name in (*RESULT_COLUMNS, *FLAG_CODES):
         assert f"`{name}`" in doc, name
+
+
+def test_action_list_gives_soak_times_and_temperature_bands(demo) -> None:
+    ev = evaluate_file(demo("housings_winter.xlsx"))
+    a = ev.actions
+    soak = a[a["action"] == "soak and re-measure"]
+    assert len(soak) > 0
+    assert soak["reason"].str.match(r"let it soak \d+–\d+ min in still air").all()
+    flagged = ev.results["flags"].str.contains("soak-advised")
+    assert (ev.results.loc[flagged, "soak_minutes_low"]
+            <= ev.results.loc[flagged, "soak_minutes_high"]).all()
+    bands = a[a["action"] == "measure within the temperature band"]
+    assert sorted(bands["characteristic"]) == sorted(ev.table.frame["characteristic"].unique())
+    # Bore A, Ø62 H7 (30 µm, ISO 286-1 IT7 50–80 mm) in EN AW-6082 (α 23.4e-6, u 1.2e-6) on
+    # a steel bore gauge (register: steel, α 11.7e-6, u 0.6e-6): a tenth of the tolerance,
+    # 3 µm, allows |θ|·62 mm·(11.7e-6 + 2·√(1.2² + 0.6²)e-6)/K ≤ 3 µm → |θ| ≤ 3.364 K, less
+    # the thermometer's k·u = 2·0.5/√3 = 0.577 K → 2.787 K → 17.21 … 22.79 °C (hand computed)
+    row = ev.characteristics[ev.characteristics["characteristic"] == "Bore A"].iloc[0]
+    assert row["band_low_c"] == pytest.approx(20 - 2.787, abs=0.002)
+    assert row["band_high_c"] == pytest.approx(20 + 2.787, abs=0.002)
+    bore = bands[bands["characteristic"] == "Bore A"]["reason"].iloc[0]
+    assert bore.startswith("uncorrected 17.2 to 22.8 °C")
