@@ -54,27 +54,38 @@ def budget_frame(budget: BatchBudget, results: pd.DataFrame, f: np.ndarray,
     lf = budget.long_form()
     i = lf.measurement
     shared = budget.shared_room[i]
-    names = np.where(shared, np.asarray(budget.quantity_names_shared, dtype=object)[lf.quantity],
-                     np.asarray(budget.quantity_names, dtype=object)[lf.quantity])
-    units = np.asarray(budget.units, dtype=object)[lf.quantity]
-    row_unit = results["unit"].to_numpy(dtype=object)[i]
-    codes = np.unique(lf.distribution)
-    dist_names = dict(zip(codes.tolist(), [distribution_name(int(c)) for c in codes],
-                          strict=True))
+    # names, units and distributions come from short lists: categorical columns, built from
+    # codes, so a million budget rows cost no string conversion
+    m = len(budget.quantity_names)
+    names = list(dict.fromkeys([*budget.quantity_names, *budget.quantity_names_shared]))
+    code_plain = np.array([names.index(q) for q in budget.quantity_names])
+    code_shared = np.array([names.index(q) for q in budget.quantity_names_shared])
+    quantity = np.where(shared, code_shared[lf.quantity], code_plain[lf.quantity])
+    dist_codes = np.unique(lf.distribution) if lf.distribution.size else np.array([], np.int8)
+    dist_names = [distribution_name(int(c)) for c in dist_codes]
+    unit_codes, unit_names = pd.factorize(pd.Series(results["unit"].to_numpy(dtype=object)))
     return pd.DataFrame({
         "row_index": i,
         "source_row": np.asarray(source_rows)[i],
-        "quantity": names,
+        "quantity": pd.Categorical.from_codes(quantity, names),
         "estimate": lf.estimate,
-        "estimate_unit": units,
+        "estimate_unit": _categorical(lf.quantity, list(budget.units[:m])),
         "standard_uncertainty": lf.u,
-        "distribution": pd.Series(lf.distribution).map(dist_names).to_numpy(),
+        "distribution": pd.Categorical.from_codes(
+            np.searchsorted(dist_codes, lf.distribution), dist_names),
         "dof": lf.dof,
         "sensitivity": lf.sensitivity,
         "contribution": lf.contribution / f[i],
-        "unit": row_unit,
+        "unit": pd.Categorical.from_codes(unit_codes[i], list(unit_names)),
         "share": lf.share,
     })
+
+
+def _categorical(codes: np.ndarray, labels: list[str]) -> pd.Categorical:
+    """A categorical from codes into ``labels``, which may repeat."""
+    uniq = list(dict.fromkeys(labels))
+    remap = np.array([uniq.index(x) for x in labels], dtype=np.int64)
+    return pd.Categorical.from_codes(remap[codes] if codes.size else codes, uniq)
 
 
 def characteristic_frame(frame: pd.DataFrame, results: pd.DataFrame,
