@@ -63,6 +63,10 @@ def write_results(ev: Evaluation, output: Path, *, force: bool = False) -> Write
     if suffix in (".csv", ".parquet", ".jsonl"):
         write_table(ev.flat(), output, force=force)
         return None
+    if source is not None and source.suffix.lower() == ".xlsm":
+        ev.notes.append("macros of the input (.xlsm) were never run; " + (
+            "they are kept untouched in the output" if suffix == ".xlsm" else
+            "they are not in this .xlsx output (write to .xlsm to keep them)"))
     sheets = extra_sheets(ev)
     formats = dict(_FORMATS)
     if source is not None and source.suffix.lower() in WORKBOOK_INPUTS:

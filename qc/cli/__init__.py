@@ -356,6 +356,9 @@ def report(
                                                 "(default: NAME.report beside the input).")]
     = None,
     paper: Annotated[str, typer.Option(help="A4 or Letter.")] = "A4",
+    units: Annotated[str | None, typer.Option(help="Lengths in the report: mm or in "
+                                              "(default: in when every row is in inches, "
+                                              "else mm).")] = None,
     layout: LayoutOpt = None,
     sheet: SheetOpt = None,
     instruments: RegisterOpt = None,
@@ -375,7 +378,8 @@ def report(
                            settings=_settings(rule, coverage, k, reference_temperature))
         stem = output or input.with_name(f"{input.stem}.report")
         formats = ("html",) if html_only else ("html", "pdf")
-        for p in report_from_evaluation(ev, stem, formats=formats, paper=paper, force=force):
+        for p in report_from_evaluation(ev, stem, formats=formats, paper=paper,
+                                        length_unit=units, force=force):
             render.info(f"wrote {p}")
     except QcError as exc:
         raise _fail(exc) from None
