@@ -38,17 +38,21 @@ class Grid:
     _blank: np.ndarray | None = field(default=None, repr=False)
 
     def blank(self) -> np.ndarray:
-        """True where a cell is empty or whitespace-only text (computed once, column-wise)."""
+        """True where a cell is empty or whitespace-only text (computed once, column-wise).
+
+        Each column's distinct values are looked at once (a column of 10^6 cells holds far
+        fewer distinct texts), and the answer is mapped back to the cells.
+        """
         if self._blank is None:
             import pandas as pd
 
             out = np.ones(self.cells.shape, dtype=bool)
             for j in range(self.cells.shape[1]):
-                col = pd.Series(self.cells[:, j], dtype=object)
-                strs = col.map(type).isin([str]).to_numpy()
-                out[:, j] = col.isna().to_numpy()
-                if strs.any():
-                    out[strs, j] = (col[strs].str.strip() == "").to_numpy()
+                codes, uniques = pd.factorize(self.cells[:, j])  # None/NaN/NaT: code -1
+                per_value = np.fromiter(
+                    (type(u) is str and not u.strip() for u in uniques), dtype=bool,
+                    count=len(uniques))
+                out[:, j] = np.append(per_value, True)[codes]
             self._blank = out
         return self._blank
 

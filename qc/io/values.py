@@ -113,13 +113,49 @@ class ParsedColumn:
         return self.values[:, 0]
 
 
+@dataclass(frozen=True)
+class _Distinct:
+    """A column split into its text cells, by distinct text, and the rest.
+
+    Equal strings are one entry of ``texts``; ``rows`` are the rows holding text and ``pos``
+    the index of each one's text in ``texts``. ``other`` are the rows holding anything else
+    (numbers, dates, markers, None/NaN), left to the type-by-type paths. Only text is grouped:
+    ``True``, ``1`` and ``1.0`` compare equal in Python, so non-text values are never merged.
+    """
+
+    cells: np.ndarray
+    texts: list[str]
+    rows: np.ndarray
+    pos: np.ndarray
+    other: np.ndarray
+
+    @classmethod
+    def of(cls, cells: np.ndarray) -> _Distinct:
+        arr = np.asarray(cells, dtype=object).reshape(-1)
+        codes, uniques = pd.factorize(arr)  # hash table in C; None/NaN/NaT get code -1
+        is_str = np.fromiter((type(u) is str for u in uniques), dtype=bool, count=len(uniques))
+        # position of each distinct value among the texts; -1 (the last slot) for the rest
+        slot = np.append(np.where(is_str, np.cumsum(is_str) - 1, -1), -1)
+        pos = slot[codes]
+        text_rows = pos >= 0
+        return cls(arr, list(uniques[is_str]), np.flatnonzero(text_rows), pos[text_rows],
+                   np.flatnonzero(~text_rows))
+
+    def spread(self, per_text: np.ndarray) -> np.ndarray:
+        """Values given per distinct text, one per text row."""
+        return per_text[self.pos]
+
+
 def is_blank(cells: np.ndarray) -> np.ndarray:
     """True where a cell is empty, whitespace, or one of :data:`BLANK_WORDS`."""
-    s = pd.Series(cells, dtype=object)
-    out = s.isna().to_numpy().copy()
-    strs = s.map(lambda x: isinstance(x, str)).to_numpy(dtype=bool)
-    if strs.any():
-        out[strs] = s[strs].str.strip().str.lower().isin(BLANK_WORDS).to_numpy()
+    d = _Distinct.of(cells)
+    out = np.zeros(len(d.cells), dtype=bool)
+    if len(d.rows):
+        blank = np.fromiter((t.strip().lower() in BLANK_WORDS for t in d.texts), dtype=bool,
+                            count=len(d.texts))
+        out[d.rows] = d.spread(blank)
+    if len(d.other):
+        out[d.other] = pd.isna(pd.Series(d.cells[d.other], dtype=object)).to_numpy()
     return out
 
 
@@ -203,6 +239,49 @@ def _parse_one(
     return out or Problem(text, "a number")
 
 
+_TextNumber = tuple[float, str | None, int, tuple[str, str] | None, list[float] | None]
+
+
+def _text_numbers(
+    texts: list[str], kind: UnitKind | None, decimal: Decimal, thousands: str | None,
+    multi: bool, allow_pm: bool,
+) -> list[_TextNumber]:
+    """Per distinct text: first value, unit, count, (expected, hint) of its problem, and all
+    values when there are several (else None).
+
+    Blank words give (NaN, None, 0, None, None); plain decimals are read with float(); the
+    rest go through :func:`_parse_one`, once per distinct stripped text.
+    """
+    simple = _SIMPLE[decimal]
+    parsed: dict[str, list[tuple[float, str | None]] | Problem] = {}
+    out: list[_TextNumber] = []
+    for raw in texts:
+        t = raw.strip()
+        if simple.fullmatch(t):  # fast path: a plain number written as text
+            v = float(t.replace(",", ".") if decimal == "," else t)
+            out.append((v, None, 1, None, None))
+            continue
+        if t.lower() in BLANK_WORDS:
+            out.append((math.nan, None, 0, None, None))
+            continue
+        r = parsed.get(t)
+        if r is None:
+            r = parsed[t] = _parse_one(t, kind, decimal, thousands, allow_pm)
+        problem: tuple[str, str] | None = None
+        if isinstance(r, Problem):
+            problem = (r.expected, r.hint)
+        elif len(r) > 1 and not multi:
+            problem = ("a single number", "")
+        elif len({u for _, u in r}) > 1:
+            problem = ("values in one unit", "")
+        if problem is not None:
+            out.append((math.nan, None, 0, problem, None))
+        else:
+            out.append((r[0][0], r[0][1], len(r), None,
+                        [v for v, _ in r] if len(r) > 1 else None))
+    return out
+
+
 def parse_numbers(
     cells: np.ndarray,
     *,
@@ -218,93 +297,91 @@ def parse_numbers(
     column's unit applies). ``multi`` allows several values in one cell (``12.01; 12.02``).
     Blank cells give NaN without a problem; required fields are checked later.
     """
-    s = pd.Series(np.asarray(cells, dtype=object), dtype=object)
-    n = len(s)
-    types = s.map(type)
-    num_mask = types.isin([float, int, np.float64, np.int64]).to_numpy()
-    str_mask = types.isin([str]).to_numpy()
+    d = _Distinct.of(cells)
+    cells = d.cells
+    n = len(cells)
     first = np.full(n, np.nan)
     units = np.full(n, None, dtype=object)
     counts = np.zeros(n, dtype=np.int64)
     problems: dict[int, Problem] = {}
+    width = 1
+    multi_rows = np.array([], dtype=np.int64)
+    multi_vals = np.empty((0, 1))
+    if len(d.rows):
+        per_text = _text_numbers(d.texts, kind, decimal, thousands, multi, allow_pm)
+        unit_t = np.empty(len(per_text), dtype=object)
+        unit_t[:] = [r[1] for r in per_text]
+        count_t = np.array([r[2] for r in per_text], dtype=np.int64)
+        first[d.rows] = d.spread(np.array([r[0] for r in per_text], dtype=float))
+        units[d.rows] = d.spread(unit_t)
+        counts[d.rows] = d.spread(count_t)
+        hit = d.spread(np.array([r[3] is not None for r in per_text], dtype=bool))
+        if hit.any():
+            objs = [Problem(t, *r[3]) if r[3] is not None else None
+                    for t, r in zip(d.texts, per_text, strict=True)]
+            problems.update(zip(d.rows[hit].tolist(), [objs[j] for j in d.pos[hit].tolist()],
+                                strict=True))
+        width = max(1, int(count_t.max()))
+        if width > 1:
+            is_multi = d.spread(count_t > 1)
+            multi_rows = d.rows[is_multi]
+            table = np.full((len(per_text), width), np.nan)
+            for j, r in enumerate(per_text):
+                if r[2] > 1:
+                    table[j, : r[2]] = r[4]
+            multi_vals = table[d.pos[is_multi]]
+    if len(d.other):
+        _other_numbers(cells, d.other, first, counts, problems)
+    values = np.full((n, width), np.nan)
+    values[:, 0] = first
+    if len(multi_rows):
+        values[multi_rows] = multi_vals
+    bad = ~np.isfinite(values[:, 0]) & (counts > 0)
+    for i in np.flatnonzero(bad):  # inf or nan typed as text
+        problems[int(i)] = Problem(cells[i], "a finite number")
+    if problems:
+        rows = np.fromiter(problems, dtype=np.int64, count=len(problems))
+        values[rows] = np.nan
+        counts[rows] = 0
+        units[rows] = None
+    return ParsedColumn(values, units, counts, problems)
+
+
+def _other_numbers(cells: np.ndarray, rows: np.ndarray, first: np.ndarray, counts: np.ndarray,
+                   problems: dict[int, Problem]) -> None:
+    """Cells that are not text: numbers convert in one step, anything else is a problem."""
+    s = pd.Series(cells[rows], dtype=object)
+    types = s.map(type)
+    num_mask = types.isin([float, int, np.float64, np.int64]).to_numpy()
     if num_mask.any():
-        first[num_mask] = s[num_mask].astype(float).to_numpy()
-        counts[num_mask] = 1
-    extra: dict[int, list[float]] = {}
-    if str_mask.any():
-        texts = s[str_mask].str.strip()
-        blank = texts.str.lower().isin(BLANK_WORDS).to_numpy()
-        idx = np.flatnonzero(str_mask)
-        simple = texts.str.fullmatch(_SIMPLE[decimal].pattern).fillna(False).to_numpy(dtype=bool)
-        if simple.any():  # fast path: plain numbers written as text
-            vals = texts[simple]
-            if decimal == ",":
-                vals = vals.str.replace(",", ".", regex=False)
-            first[idx[simple]] = vals.astype(float).to_numpy()
-            counts[idx[simple]] = 1
-        rest = ~simple & ~blank
-        if rest.any():
-            parsed = {
-                t: _parse_one(t, kind, decimal, thousands, allow_pm) for t in pd.unique(texts[rest])
-            }
-            for i, t in zip(idx[rest], texts[rest], strict=True):
-                r = parsed[t]
-                if isinstance(r, Problem):
-                    problems[int(i)] = Problem(s.iat[i], r.expected, r.hint)
-                    continue
-                if len(r) > 1 and not multi:
-                    problems[int(i)] = Problem(s.iat[i], "a single number")
-                    continue
-                rowunits = {u for _, u in r}
-                if len(rowunits) > 1:
-                    problems[int(i)] = Problem(s.iat[i], "values in one unit")
-                    continue
-                first[i] = r[0][0]
-                units[i] = r[0][1]
-                counts[i] = len(r)
-                if len(r) > 1:
-                    extra[int(i)] = [v for v, _ in r]
-    other = ~num_mask & ~str_mask & ~s.isna().to_numpy()
-    for i in np.flatnonzero(other):
-        v = s.iat[i]
+        first[rows[num_mask]] = s[num_mask].astype(float).to_numpy()
+        counts[rows[num_mask]] = 1
+    other = ~num_mask & ~s.isna().to_numpy()
+    for j in np.flatnonzero(other):
+        i, v = int(rows[j]), s.iat[j]
         if isinstance(v, CellMarker):
             if v.kind == "error":
-                problems[int(i)] = Problem(
+                problems[i] = Problem(
                     v.text, "a number", f"the cell holds the spreadsheet error {v.text}"
                 )
             else:
-                problems[int(i)] = Problem(
+                problems[i] = Problem(
                     v,
                     "a number",
                     "formula without a saved result; open and save the file in the spreadsheet "
                     "program so it computes the value",
                 )
         elif isinstance(v, bool):
-            problems[int(i)] = Problem(v, "a number")
+            problems[i] = Problem(v, "a number")
         elif isinstance(v, dt.date | dt.time | dt.timedelta):
-            problems[int(i)] = Problem(
+            problems[i] = Problem(
                 v, "a number", "the cell is formatted as a date or time; format it as a number"
             )
         elif isinstance(v, float | int | np.floating | np.integer):
             first[i] = float(v)
             counts[i] = 1
         else:
-            problems[int(i)] = Problem(v, "a number")
-    width = max([1, *(len(v) for v in extra.values())])
-    values = np.full((n, width), np.nan)
-    values[:, 0] = first
-    for i, vs in extra.items():
-        values[i, : len(vs)] = vs
-    bad = ~np.isfinite(values[:, 0]) & (counts > 0)
-    for i in np.flatnonzero(bad):  # inf or nan typed as text
-        problems[int(i)] = Problem(s.iat[i], "a finite number")
-        counts[i] = 0
-        values[i] = np.nan
-    for i in problems:
-        values[i] = np.nan
-        counts[i] = 0
-        units[i] = None
-    return ParsedColumn(values, units, counts, problems)
+            problems[i] = Problem(v, "a number")
 
 
 _DATE_PATTERNS = (
@@ -360,68 +437,104 @@ def parse_dates(cells: np.ndarray, *, date_order: str | None = None) -> tuple[np
     Date cells convert in one step; each distinct text is parsed once; plain numbers are
     Excel serial dates (1900 date system).
     """
-    s = pd.Series(np.asarray(cells, dtype=object), dtype=object)
-    out = np.full(len(s), np.datetime64("NaT"), dtype="datetime64[s]")
+    d = _Distinct.of(cells)
+    out = np.full(len(d.cells), np.datetime64("NaT"), dtype="datetime64[s]")
     problems: dict[int, Problem] = {}
+    if len(d.rows):
+        parsed: dict[str, dt.datetime | Problem] = {}
+        when = np.full(len(d.texts), np.datetime64("NaT"), dtype="datetime64[s]")
+        objs: list[Problem | None] = []
+        for j, raw in enumerate(d.texts):
+            t = raw.strip()
+            if t.lower() in BLANK_WORDS:
+                objs.append(None)
+                continue
+            r = parsed.get(t)
+            if r is None:
+                r = parsed[t] = _date_from_text(t, date_order)
+            if isinstance(r, Problem):
+                objs.append(Problem(raw, r.expected, r.hint))
+            else:
+                when[j] = np.datetime64(r, "s")
+                objs.append(None)
+        out[d.rows] = d.spread(when)
+        hit = d.spread(np.array([p is not None for p in objs], dtype=bool))
+        if hit.any():
+            problems.update(zip(d.rows[hit].tolist(), [objs[j] for j in d.pos[hit].tolist()],
+                                strict=True))
+    if len(d.other):
+        _other_dates(d.cells, d.other, out, problems)
+    return out, problems
+
+
+def _other_dates(cells: np.ndarray, rows: np.ndarray, out: np.ndarray,
+                 problems: dict[int, Problem]) -> None:
+    """Cells that are not text: date cells and Excel serial numbers convert in one step."""
+    s = pd.Series(cells[rows], dtype=object)
     types = s.map(type)
     dts = types.isin([dt.datetime, pd.Timestamp]).to_numpy()
     if dts.any():  # the common case, a real date cell: one vectorised conversion
-        out[dts] = pd.to_datetime(s[dts]).dt.tz_localize(None).to_numpy(dtype="datetime64[s]")
-    strs = types.isin([str]).to_numpy()
-    if strs.any():
-        texts = s[strs].str.strip()
-        keep = ~texts.str.lower().isin(BLANK_WORDS).to_numpy()
-        idx = np.flatnonzero(strs)[keep]
-        texts = texts[keep]
-        parsed = {t: _date_from_text(t, date_order) for t in pd.unique(texts)}
-        good = {t: np.datetime64(v, "s") for t, v in parsed.items()
-                if not isinstance(v, Problem)}
-        ok = texts.isin(list(good)).to_numpy()
-        if ok.any():
-            out[idx[ok]] = texts[ok].map(good).to_numpy(dtype="datetime64[s]")
-        for i, t in zip(idx[~ok], texts[~ok], strict=True):
-            r = parsed[t]
-            problems[int(i)] = Problem(s.iat[i], r.expected, r.hint)
+        out[rows[dts]] = pd.to_datetime(s[dts]).dt.tz_localize(None).to_numpy(
+            dtype="datetime64[s]")
     nums = types.isin([float, int]).to_numpy()
     if nums.any():
         v = s[nums].astype(float).to_numpy()
-        idx = np.flatnonzero(nums)
+        idx = rows[nums]
         valid = (v >= 1) & (v < 2958466)  # Excel serials 1900-01-01 … 9999-12-31
         secs = np.round(v[valid] * 86400.0).astype("int64").astype("timedelta64[s]")
         out[idx[valid]] = np.datetime64(_EXCEL_EPOCH, "s") + secs
         for i in idx[~valid]:
-            problems[int(i)] = Problem(s.iat[i], "a date")
-    other = ~dts & ~strs & ~nums & ~s.isna().to_numpy()
-    for i in np.flatnonzero(other):
-        v = s.iat[i]
+            problems[int(i)] = Problem(cells[i], "a date")
+    other = ~dts & ~nums & ~s.isna().to_numpy()
+    for j in np.flatnonzero(other):
+        i, v = int(rows[j]), s.iat[j]
         if isinstance(v, dt.date) and not isinstance(v, dt.datetime):
             out[i] = np.datetime64(dt.datetime(v.year, v.month, v.day), "s")
         else:
-            problems[int(i)] = Problem(v, "a date")
-    return out, problems
+            problems[i] = Problem(v, "a date")
+
+
+def _text_of(v: object) -> str:
+    """A non-text cell as text: integral floats without '.0'."""
+    if isinstance(v, float) and v.is_integer():
+        return str(int(v))
+    return str(v).strip()
 
 
 def parse_texts(cells: np.ndarray) -> tuple[np.ndarray, dict[int, Problem]]:
     """Text column: strings stripped, numbers written without a trailing '.0', blanks as ''."""
-    s = pd.Series(np.asarray(cells, dtype=object), dtype=object)
+    d = _Distinct.of(cells)
     problems: dict[int, Problem] = {}
-    types = s.map(type)
-    out = np.full(len(s), "", dtype=object)
-    strs = types.isin([str]).to_numpy()
-    if strs.any():
-        out[strs] = s[strs].str.strip().to_numpy(dtype=object)
-    rest = ~strs & ~s.isna().to_numpy()
-    for i in np.flatnonzero(rest):
-        v = s.iat[i]
-        if isinstance(v, CellMarker):
-            hint = (f"the cell holds the spreadsheet error {v.text}" if v.kind == "error"
-                    else "formula without a saved result; open and save the file in the "
-                    "spreadsheet program so it computes the value")
-            problems[int(i)] = Problem(v.text if v.kind == "error" else v, "a text", hint)
-        elif isinstance(v, float) and v.is_integer():
-            out[i] = str(int(v))
-        elif isinstance(v, float) and math.isnan(v):
+    out = np.full(len(d.cells), "", dtype=object)
+    if len(d.rows):
+        stripped = np.empty(len(d.texts), dtype=object)
+        stripped[:] = [t.strip() for t in d.texts]
+        out[d.rows] = d.spread(stripped)
+    if not len(d.other):
+        return out, problems
+    s = pd.Series(d.cells[d.other], dtype=object)
+    keep = ~s.isna().to_numpy()
+    rows, s = d.other[keep], s[keep]
+    types = s.map(type).to_numpy()
+    markers = np.fromiter((t is CellMarker for t in types), dtype=bool, count=len(types))
+    for j in np.flatnonzero(markers):
+        v = s.iat[j]
+        hint = (f"the cell holds the spreadsheet error {v.text}" if v.kind == "error"
+                else "formula without a saved result; open and save the file in the "
+                "spreadsheet program so it computes the value")
+        problems[int(rows[j])] = Problem(v.text if v.kind == "error" else v, "a text", hint)
+    type_codes, kinds = pd.factorize(types)
+    for k, t in enumerate(kinds):
+        of_type = ~markers & (type_codes == k)
+        if not of_type.any():
             continue
-        else:
-            out[i] = str(v).strip()
+        vals = s[of_type].to_numpy()
+        if issubclass(t, dt.datetime | dt.time):  # equal across time zones, written apart
+            out[rows[of_type]] = [_text_of(v) for v in vals]
+            continue
+        # within one type, equal values write the same text: convert each distinct value once
+        codes, uniques = pd.factorize(vals)
+        text = np.empty(len(uniques), dtype=object)
+        text[:] = [_text_of(u) for u in uniques]
+        out[rows[of_type]] = text[codes]
     return out, problems
