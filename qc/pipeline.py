@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import hashlib
 from dataclasses import dataclass, field
+from functools import cached_property
 from pathlib import Path
 
 import numpy as np
@@ -81,12 +82,18 @@ class Evaluation:
     rule: DecisionRule
     settings: Settings
     results: pd.DataFrame
-    budgets: pd.DataFrame
     characteristics: pd.DataFrame
     actions: pd.DataFrame
     input_sha256: str = ""
     source: Path | None = None
     notes: list[str] = field(default_factory=list)
+
+    @cached_property
+    def budgets(self) -> pd.DataFrame:
+        """The budget in long form (one row per contribution per measurement), built when
+        first asked for: flat outputs never need it."""
+        return budget_frame(self.budget, self.results, mm_per_unit(self.results["unit"]),
+                            self.table.frame["source_row"].to_numpy())
 
     @property
     def counts(self) -> dict[str, int]:
@@ -272,8 +279,6 @@ def evaluate_table(table: InspectionTable, settings: Settings) -> Evaluation:
     ev = Evaluation(
         table=table, measurements=m, budget=budget, decision=decision, rule=rule,
         settings=settings, results=results,
-        budgets=budget_frame(budget, results, mm_per_unit(results["unit"]),
-                             frame["source_row"].to_numpy()),
         characteristics=characteristic_frame(table.frame, results, settings.tolerance_share),
         actions=pd.DataFrame(),
     )
@@ -367,27 +372,32 @@ def _results(table: InspectionTable, m: MeasurementArrays, budget: BatchBudget,
 
 def _flags(frame: pd.DataFrame, budget: BatchBudget, decision: Decision,
            evaluated: np.ndarray, settings: Settings) -> np.ndarray:
-    """';'-separated warning codes per row (docs/columns.md lists them)."""
+    """';'-separated warning codes per row (docs/columns.md lists them).
+
+    Each condition is a bit; the few distinct combinations are turned into text once.
+    """
     n = len(frame)
-    parts: list[np.ndarray] = []
-    reader_flags = frame["flags"].to_numpy(dtype=object) if "flags" in frame else \
-        np.full(n, "", object)
-    parts.append(np.where(pd.isna(reader_flags), "", reader_flags).astype(object))
-    parts.append(np.where(decision.temperature_decides, "temperature-decides", ""))
     tur = (_col(frame, "upper_limit_mm") - _col(frame, "lower_limit_mm")) / (2 * budget.U)
-    coarse = evaluated & np.isfinite(tur) & (tur < MIN_UNCERTAINTY_RATIO)
-    parts.append(np.where(coarse, "instrument-too-coarse", ""))
     part_t, gauge_t = _col(frame, "part_temp_c"), _col(frame, "gauge_temp_c")
-    room_t = _col(frame, "room_temp_c")
-    ref = np.where(np.isfinite(gauge_t), gauge_t, room_t)
+    ref = np.where(np.isfinite(gauge_t), gauge_t, _col(frame, "room_temp_c"))
     off = np.abs(part_t - ref) > settings.soak_band_k
     needs = (decision.verdict == BORDERLINE) | decision.temperature_decides
-    parts.append(np.where(evaluated & needs & off, "soak-advised", ""))
-    if budget.nonstandard_reference:
-        parts.append(np.where(evaluated, "reference-not-20c", ""))
-    joined = pd.Series(parts[0], dtype=object)
-    for p in parts[1:]:
-        s = pd.Series(p, dtype=object)
-        joined = np.where((joined != "") & (s != ""), joined + ";" + s, joined + s)
-        joined = pd.Series(joined, dtype=object)
-    return joined.to_numpy(dtype=object)
+    bits = (
+        ("temperature-decides", decision.temperature_decides),
+        ("instrument-too-coarse", evaluated & np.isfinite(tur) & (tur < MIN_UNCERTAINTY_RATIO)),
+        ("soak-advised", evaluated & needs & off),
+        ("reference-not-20c", evaluated & budget.nonstandard_reference),
+    )
+    code = np.zeros(n, dtype=np.int64)
+    for j, (_, mask) in enumerate(bits):
+        code |= np.asarray(mask, dtype=np.int64) << j
+    reader = frame["flags"] if "flags" in frame else pd.Series([""] * n)
+    reader_codes, reader_names = pd.factorize(reader.fillna("").astype(str), sort=False)
+    combined = reader_codes.astype(np.int64) * (1 << len(bits)) + code
+    uniq, inverse = np.unique(combined, return_inverse=True)
+    texts = []
+    for c in uniq.tolist():
+        names = [reader_names[c >> len(bits)]] if reader_names[c >> len(bits)] else []
+        names += [name for j, (name, _) in enumerate(bits) if c >> j & 1]
+        texts.append(";".join(names))
+    return np.asarray(texts, dtype=object)[inverse]

@@ -184,42 +184,59 @@ def soak_advice(frame: pd.DataFrame, results: pd.DataFrame,
 
 
 def actions_frame(frame: pd.DataFrame, results: pd.DataFrame) -> pd.DataFrame:
-    """What to do next, one line per row and action (borderline, soak, instrument, calibration)."""
-    flags = results["flags"].fillna("")
+    """What to do next, one line per row and action (borderline, soak, instrument, calibration).
+
+    Reasons are written only for the rows that need them.
+    """
+    flags = results["flags"].fillna("").astype(str)
     verdict = results["verdict"]
+    soak = flags.str.contains("soak-advised", regex=False).to_numpy()
+    hot = flags.str.contains("temperature-decides", regex=False).to_numpy()
     entries = []
 
-    def add(mask: pd.Series, action: str, reason: pd.Series | str) -> None:
-        if not mask.any():
+    def add(mask: np.ndarray, action: str, reason) -> None:
+        """``reason``: a text, or a function of the selected rows giving one text per row."""
+        rows = np.flatnonzero(mask)
+        if rows.size == 0:
             return
-        sub = frame.loc[mask]
         entries.append(pd.DataFrame({
-            "source_row": sub["source_row"].to_numpy(),
-            "part": sub["part"].to_numpy(),
-            "characteristic": sub["characteristic"].to_numpy(),
+            "source_row": frame["source_row"].to_numpy()[rows],
+            "part": frame["part"].to_numpy(dtype=object)[rows],
+            "characteristic": frame["characteristic"].to_numpy(dtype=object)[rows],
             "action": action,
-            "reason": reason[mask].to_numpy() if isinstance(reason, pd.Series) else reason,
+            "reason": reason if isinstance(reason, str) else reason(rows),
         }))
 
-    soak_text = ("let it soak " + _minutes(results["soak_minutes_low"]) + "–"
-                 + _minutes(results["soak_minutes_high"]) + " min in still air, then re-measure")
-    soak_text = soak_text.where(results["soak_minutes_low"].notna(),
-                                "let it reach the gauge temperature, then re-measure")
-    add(flags.str.contains("soak-advised", regex=False), "soak and re-measure", soak_text)
-    add((verdict == "borderline") & ~flags.str.contains("soak-advised", regex=False),
-        "re-measure or decide with the customer",
+    def soak_reason(rows: np.ndarray) -> np.ndarray:
+        low = results["soak_minutes_low"].to_numpy(dtype=float)[rows]
+        high = results["soak_minutes_high"].to_numpy(dtype=float)[rows]
+        known = np.isfinite(low) & np.isfinite(high)
+        text = np.full(rows.size, "let it reach the gauge temperature, then re-measure",
+                       dtype=object)
+        text[known] = [f"let it soak {lo:.0f}–{hi:.0f} min in still air, then re-measure"
+                       for lo, hi in zip(low[known], high[known], strict=True)]
+        return text
+
+    def ratio_reason(rows: np.ndarray) -> np.ndarray:
+        r = results["uncertainty_ratio"].to_numpy(dtype=float)[rows]
+        return np.array([f"tolerance / (2U) = {x:.1f} (below 4:1)" for x in r], dtype=object)
+
+    def overdue_reason(rows: np.ndarray) -> np.ndarray:
+        inst = frame["instrument"].fillna("").astype(str).to_numpy(dtype=object)[rows]
+        return "instrument " + inst + " was past its calibration due date"
+
+    add(soak, "soak and re-measure", soak_reason)
+    add((verdict == "borderline").to_numpy() & ~soak, "re-measure or decide with the customer",
         "borderline: neither conformance nor nonconformance is proven under the decision rule")
-    add(flags.str.contains("temperature-decides", regex=False)
-        & ~flags.str.contains("soak-advised", regex=False),
-        "check the temperatures", "the verdict without the thermal correction would differ")
-    add(flags.str.contains("instrument-too-coarse", regex=False), "use a finer instrument",
-        "tolerance / (2U) = " + results["uncertainty_ratio"].round(1).astype(str)
-        + " (below 4:1)")
-    add(flags.str.contains("calibration-overdue", regex=False), "calibration overdue",
-        "instrument " + frame["instrument"].fillna("").astype(str)
-        + " was past its calibration due date")
-    add(verdict == "not evaluated", "correct the input", results["message"].fillna(""))
-    add(verdict == "nonconforming", "segregate the part (nonconforming)",
+    add(hot & ~soak, "check the temperatures",
+        "the verdict without the thermal correction would differ")
+    add(flags.str.contains("instrument-too-coarse", regex=False).to_numpy(),
+        "use a finer instrument", ratio_reason)
+    add(flags.str.contains("calibration-overdue", regex=False).to_numpy(), "calibration overdue",
+        overdue_reason)
+    add((verdict == "not evaluated").to_numpy(), "correct the input",
+        lambda rows: results["message"].fillna("").to_numpy(dtype=object)[rows])
+    add((verdict == "nonconforming").to_numpy(), "segregate the part (nonconforming)",
         "outside the specification zone enlarged by U")
     columns = ["source_row", "part", "characteristic", "action", "reason"]
     if not entries:
@@ -259,5 +276,3 @@ def _band_text(low: pd.Series, high: pd.Series) -> pd.Series:
     return text.where(~((low <= lo) & (high >= hi)), f"anywhere from {lo:g} to {hi:g} °C")
 
 
-def _minutes(s: pd.Series) -> pd.Series:
-    return s.round(0).astype("Int64").astype(str)

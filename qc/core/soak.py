@@ -456,20 +456,18 @@ def soak_time_for_rows(
     r = soak_time_range(part_c, room_c, band_k, *props, h_low, h_nominal, h_high, geometry, gauge_c)
     shape = r.nominal.centre_s.shape
     proxy_b = np.broadcast_to(proxy, shape)
-    basis = np.where(
-        proxy_b,
-        "geometry unknown: assumed a solid cube with edge = nominal size (V/A = size/6)",
-        "V/A as given",
-    )
     method = r.nominal.method
-    lag = np.where(
-        method == "one-term", "; one-term series, core lags the surface: centre time given", ""
-    )
     never = np.isinf(r.nominal.centre_s)
-    extra = np.where(never, "; gauge and room differ by more than the band: never inside", "")
-    note = basis
-    for part in (np.full(shape, "; time range from h low–high"), lag, extra):
-        note = np.char.add(note, part)
+    # the note has few variants: pick them by code instead of joining strings per row
+    basis = ("V/A as given",
+             "geometry unknown: assumed a solid cube with edge = nominal size (V/A = size/6)")
+    lag = ("", "; one-term series, core lags the surface: centre time given")
+    extra = ("", "; gauge and room differ by more than the band: never inside")
+    table = np.array([b + "; time range from h low–high" + lg + ex
+                      for b in basis for lg in lag for ex in extra], dtype=object)
+    code = proxy_b.astype(np.int8) * 4 + (method == "one-term").astype(np.int8) * 2 \
+        + never.astype(np.int8)
+    note = table[code]
     return RowSoak(
         fast_s=r.fast.centre_s,
         nominal_s=r.nominal.centre_s,

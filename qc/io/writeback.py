@@ -22,14 +22,22 @@ from pathlib import Path
 import pandas as pd
 
 from qc.errors import ConfigError, OutputError
-from qc.io.writeback_cells import CellNotes, column_cells, inline_string_cell
-from qc.io.writeback_new import build_workbook
-from qc.io.writeback_sheet import Occupied, edit_worksheet, range_text, ranges_block
+from qc.io.writeback_cells import (
+    CellNotes,
+    column_cells,
+    inline_string_cell,
+    join_cells,
+    row_numbers,
+)
+from qc.io.writeback_new import empty_workbook
+from qc.io.writeback_sheet import Occupied, edited_worksheet, range_text, ranges_block
 from qc.io.writeback_sheets import (
     SheetEntry,
     WorkbookPart,
     column_width,
-    table_sheet_xml,
+    continuation_note,
+    sheet_pieces,
+    table_sheet,
     valid_sheet_name,
 )
 from qc.io.writeback_styles import HEADER_MARK, MINIMAL_STYLES, StyleBook
@@ -150,19 +158,19 @@ def write_back(
             book.date1904,
             cell_notes,
         )
-        pkg.replace(
+        edited = edited_worksheet(
+            pkg.get(target.part),
             target.part,
-            edit_worksheet(
-                pkg.get(target.part),
-                target.part,
-                row_cells=row_cells,
-                last_column=last_column,
-                first_col=first_col,
-                last_col=last_col,
-                widths=widths,
-            ),
+            row_cells=row_cells,
+            last_column=last_column,
+            first_col=first_col,
+            last_col=last_col,
+            widths=widths,
         )
+        del row_cells  # the edited pieces hold the cells now
+        pkg.replace_stream(target.part, edited)
     except Occupied as why:
+        cell_notes = CellNotes()  # the cells made for beside the data are not written
         mode = "results sheet"
         results_sheet = valid_sheet_name(f"{target.name} results", book.names())
         first_letter = "C"
@@ -170,7 +178,7 @@ def write_back(
             {"source_sheet": target.name, "source_row": rows}, index=results.index
         )
         frame = pd.concat([pointers, results], axis=1)
-        xml = table_sheet_xml(
+        xml = table_sheet(
             frame,
             styles,
             header_row=header_row,
@@ -191,42 +199,13 @@ def write_back(
 
     added = [results_sheet] if mode == "results sheet" else []
     for extra in extra_sheets:
-        name = valid_sheet_name(extra.name, book.names())
-        if name != extra.name:
-            notes.append(
-                f"The sheet '{extra.name}' was named '{name}' (names must be unique, "
-                "at most 31 characters, without []:*?/\\)."
-            )
-        titles = list(extra.title_lines)
-        header = len(titles) + 2 if titles else 1
-        xml = table_sheet_xml(
-            extra.frame,
-            styles,
-            header_row=header,
-            data_rows=range(header + 1, header + 1 + len(extra.frame)),
-            column_formats=extra.column_formats,
-            column_widths=extra.column_widths,
-            title_lines=titles,
-            freeze_header=extra.freeze_header,
-            verdict_column=verdict_column,
-            date1904=book.date1904,
-            notes=cell_notes,
-        )
-        book.add_worksheet(name, xml)
-        added.append(name)
+        added += _add_table(book, styles, extra, verdict_column, cell_notes, notes)
     # document properties only describe the workbook; an unusual layout is left as it was
     book.update_app_properties()
 
     notes.extend(_set_macro_content(pkg, book, suffix))
-    if styles.changed:
-        if pkg.has(styles_part):
-            pkg.replace(styles_part, styles.render())
-        else:
-            pkg.add(styles_part, styles.render(), CT_STYLES)
+    _save(pkg, styles_part, styles, output)
     notes.extend(_cell_notes(cell_notes))
-
-    with atomic_output(output) as tmp, open(tmp, "wb") as fh:
-        pkg.write(fh)
     return WriteReport(
         output=output,
         mode=mode,
@@ -236,6 +215,59 @@ def write_back(
         added_sheets=tuple(added),
         notes=tuple(notes),
     )
+
+
+def _save(pkg: Package, styles_part: str, styles: StyleBook, output: Path) -> None:
+    """Write the package to ``output`` atomically; the new sheets' rows are built meanwhile."""
+    if styles.changed or not pkg.has(styles_part):
+        if pkg.has(styles_part):
+            pkg.replace(styles_part, styles.render())
+        else:
+            pkg.add(styles_part, styles.render(), CT_STYLES)
+    with atomic_output(output) as tmp, open(tmp, "wb") as fh:
+        pkg.write(fh)
+
+
+def _add_table(
+    book: WorkbookPart,
+    styles: StyleBook,
+    extra: SheetTable,
+    verdict_column: str,
+    cell_notes: CellNotes,
+    notes: list[str],
+    *,
+    note_rename: bool = True,
+) -> list[str]:
+    """Add ``extra`` as a new sheet, or as several when it has more rows than a sheet holds."""
+    titles = list(extra.title_lines)
+    header = len(titles) + 2 if titles else 1
+    pieces = sheet_pieces(len(extra.frame), header)
+    names: list[str] = []
+    for piece in pieces:
+        name = valid_sheet_name(extra.name, book.names())
+        if note_rename and not names and name != extra.name:
+            notes.append(
+                f"The sheet '{extra.name}' was named '{name}' (names must be unique, "
+                "at most 31 characters, without []:*?/\\)."
+            )
+        part = table_sheet(
+            extra.frame.iloc[piece.start : piece.stop],
+            styles,
+            header_row=header,
+            data_rows=range(header + 1, header + 1 + len(piece)),
+            column_formats=extra.column_formats,
+            column_widths=extra.column_widths,
+            title_lines=titles,
+            freeze_header=extra.freeze_header,
+            verdict_column=verdict_column,
+            date1904=book.date1904,
+            notes=cell_notes,
+        )
+        book.add_worksheet(name, part)
+        names.append(name)
+    if len(names) > 1:
+        notes.append(continuation_note(extra.name, len(extra.frame), names))
+    return names
 
 
 def _check_rows(
@@ -268,7 +300,9 @@ def _styles(pkg: Package, book: WorkbookPart) -> tuple[str, StyleBook]:
             part = pkg.resolve(book.part, rel.target)
             if pkg.has(part):
                 return part, StyleBook(pkg.get(part), part)
-    part = pkg.free_name("xl/styles{}.xml")
+    # the usual name first: some readers (openpyxl) look for the styles there only
+    taken = {n.lower() for n in pkg.names()}
+    part = "xl/styles.xml" if "xl/styles.xml" not in taken else pkg.free_name("xl/styles{}.xml")
     book.rels.append(Relationship(_free_rid(book.rels), REL_STYLES, part.split("/")[-1]))
     pkg.set_rels(book.part, book.rels)
     return part, StyleBook(MINIMAL_STYLES.encode("utf-8"), part)
@@ -337,17 +371,18 @@ def _result_cells(
     columns = []
     header = []
     widths = []
+    numbers = row_numbers(rows)
     for i, name in enumerate(results.columns):
         letter = column_letter(first_col + i)
         label = str(name)
-        series = results[name]
+        series = results.iloc[:, i]
         fmt = formats.get(label) or ("yyyy-mm-dd hh:mm:ss" if series.dtype.kind == "M" else None)
         header.append(inline_string_cell(f"{letter}{header_row}", label, header_style, notes))
         columns.append(
             column_cells(
                 series,
                 letter,
-                rows,
+                numbers,
                 styles.style(fmt),
                 value_styles=verdicts if label == verdict_column else None,
                 date1904=date1904,
@@ -357,7 +392,7 @@ def _result_cells(
         widths.append(column_width(label, series, fmt))
     cells = {header_row: "".join(header)}
     if columns:
-        cells.update(zip(rows, map("".join, zip(*columns, strict=True)), strict=True))
+        cells.update(zip(rows, join_cells(columns).to_pylist(), strict=True))
     return cells, widths
 
 
@@ -413,22 +448,25 @@ def write_new_workbook(
 ) -> WriteReport:
     """Write ``data`` (original and result columns) to a new workbook ``output``.
 
-    For inputs that were not workbooks (CSV). Text is always written as text, never as a
-    formula; the verdict column carries the same marking as :func:`write_back`.
+    For inputs that were not workbooks (CSV). The sheets are written as in :func:`write_back`:
+    text always as text, never as a formula, the same verdict marking, long tables split.
     """
     output = Path(output)
     if output.suffix.lower() != ".xlsx":
         raise OutputError(f"cannot write {output}: a new workbook must end in .xlsx")
     check_output(output, force=force)
-    with atomic_output(output) as tmp:
-        names, notes = build_workbook(
-            tmp,
-            data=data,
-            sheet_name=sheet_name,
-            column_formats=dict(column_formats or {}),
-            extra_sheets=extra_sheets,
-            verdict_column=verdict_column,
-        )
+    pkg = empty_workbook()
+    book = WorkbookPart(pkg)
+    styles_part, styles = _styles(pkg, book)
+    notes: list[str] = []
+    cell_notes = CellNotes()
+    main = SheetTable(valid_sheet_name(sheet_name, []), data, dict(column_formats or {}))
+    names = _add_table(book, styles, main, verdict_column, cell_notes, notes, note_rename=False)
+    for extra in extra_sheets:
+        names += _add_table(book, styles, extra, verdict_column, cell_notes, notes)
+    book.update_app_properties()
+    _save(pkg, styles_part, styles, output)
+    notes.extend(_cell_notes(cell_notes))
     return WriteReport(
         output=output,
         mode="new workbook",

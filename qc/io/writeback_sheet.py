@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import bisect
 import re
-from collections.abc import Sequence
+from collections.abc import Callable, Iterator, Sequence
 
 from qc.io.xlsx_package import (
     check_xml_stream,
@@ -26,6 +26,8 @@ from qc.io.xlsx_package import (
     parse_range_ref,
 )
 
+#: Pieces of an edited sheet encoded at a time (a few MB each).
+_PIECES_PER_CHUNK = 4096
 _ATTRS = r"""(?:[^>"']|"[^"]*"|'[^']*')*?"""
 _R_ATTR = re.compile(r"""(?:^|\s)r\s*=\s*["']([A-Za-z]*)(\d*)["']""")
 _SPANS_ATTR = re.compile(r"""\s+spans\s*=\s*("[^"]*"|'[^']*')""")
@@ -57,7 +59,7 @@ def range_text(r1: int, c1: int, r2: int, c2: int) -> str:
     return f"{column_letter(c1)}{r1}:{column_letter(c2)}{r2}"
 
 
-def edit_worksheet(
+def edited_worksheet(
     xml: bytes,
     part: str,
     *,
@@ -66,11 +68,13 @@ def edit_worksheet(
     first_col: int,
     last_col: int,
     widths: Sequence[float],
-) -> bytes:
+) -> Callable[[], Iterator[bytes]]:
     """The worksheet ``xml`` with ``row_cells`` (row number → cell XML, in column order) added.
 
     ``last_column`` is the last column of the original data; cells with a value beyond it on a
     target row, or merged cells / an autofilter over the target area, raise :class:`Occupied`.
+    All checks and edits happen now; the result is a generator of the new part's bytes, encoded
+    as the package is written, so the sheet never exists as one string and one byte string.
     """
     check_xml_stream(xml, part)
     text = decode_xml(xml)
@@ -115,7 +119,16 @@ def edit_worksheet(
         pieces = [head, open_tag, *new_inner, f"</{p}sheetData>", text[sd.end() :]]
     else:
         pieces = [head, open_tag, *new_inner, tail]
-    return encode_xml(pieces[0]) + "".join(pieces[1:]).encode("utf-8")
+    first = encode_xml(pieces[0])
+    rest = pieces[1:]
+    del text, inner, tail, new_inner, pieces  # only the pieces of the new sheet stay
+
+    def chunks() -> Iterator[bytes]:
+        yield first
+        for at in range(0, len(rest), _PIECES_PER_CHUNK):
+            yield "".join(rest[at : at + _PIECES_PER_CHUNK]).encode("utf-8")
+
+    return chunks
 
 
 def _unclose(attrs: str) -> str:

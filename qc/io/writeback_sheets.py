@@ -11,13 +11,22 @@ from __future__ import annotations
 
 import posixpath
 import re
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
 
+import numpy as np
 import pandas as pd
+import pyarrow as pa
 
-from qc.errors import FileReadError, UnknownNameError
-from qc.io.writeback_cells import CellNotes, column_cells, inline_string_cell
+from qc.errors import ConfigError, FileReadError, UnknownNameError
+from qc.io.writeback_cells import (
+    CellNotes,
+    column_cells,
+    inline_string_cell,
+    join_cells,
+    row_numbers,
+    string_bytes,
+)
 from qc.io.writeback_styles import HEADER_MARK, TITLE_MARK, StyleBook
 from qc.io.xlsx_package import (
     CT_WORKSHEET,
@@ -87,12 +96,15 @@ class WorkbookPart:
     def names(self) -> list[str]:
         return [s.name for s in self.sheets]
 
-    def add_worksheet(self, name: str, xml: bytes) -> None:
+    def add_worksheet(self, name: str, xml: bytes | SheetPart) -> None:
         """Graft a worksheet part called ``name`` (already unique and valid) into the package."""
         pkg = self.package
         folder = posixpath.dirname(self.part)
         part = pkg.free_name(posixpath.join(folder, "worksheets", "sheet{}.xml"))
-        pkg.add(part, xml, CT_WORKSHEET)
+        if isinstance(xml, SheetPart):
+            pkg.add_stream(part, xml.chunks, CT_WORKSHEET)
+        else:
+            pkg.add(part, xml, CT_WORKSHEET)
         ids = {r.id for r in self.rels}
         n = 1
         while f"rId{n}" in ids:
@@ -209,12 +221,66 @@ def column_width(header: str, values: pd.Series, number_format: str | None) -> f
     return float(min(60, max(8, len(header) + 2, longest + 2)))
 
 
-def table_sheet_xml(
+#: Rows of a worksheet (ECMA-376 Part 1, 18.3.1.73: r is at most 1 048 576; Excel's limit too).
+MAX_SHEET_ROWS = 1048576
+#: Rows built and written at a time: bounds memory (tens of MB a chunk) on sheets of any length.
+CHUNK_ROWS = 50_000
+
+
+@dataclass(frozen=True)
+class SheetPart:
+    """A worksheet part produced in pieces: its head, its rows chunk by chunk, its tail.
+
+    ``body`` is called when the package is written, so a sheet of a million rows never has to
+    exist as one string. Styles are fixed when the part is made; ``notes`` fill as rows are built.
+    """
+
+    head: bytes
+    body: Callable[[], Iterator[bytes | memoryview]]
+    tail: bytes
+
+    def chunks(self) -> Iterator[bytes | memoryview]:
+        yield self.head
+        yield from self.body()
+        yield self.tail
+
+    def to_bytes(self) -> bytes:
+        return b"".join(bytes(c) for c in self.chunks())
+
+
+def sheet_pieces(n_rows: int, header_row: int) -> list[range]:
+    """Row positions of a table of ``n_rows`` records for each sheet it needs.
+
+    A sheet holds :data:`MAX_SHEET_ROWS` rows; ``header_row`` of them go to the title lines,
+    the empty line after them and the header, which every continuation sheet repeats.
+    """
+    room = MAX_SHEET_ROWS - header_row
+    if room < 1:
+        raise ConfigError(
+            f"a sheet of {MAX_SHEET_ROWS} rows has no room left for data below "
+            f"{header_row} title and header rows"
+        )
+    if n_rows <= room:
+        return [range(n_rows)]
+    return [range(a, min(a + room, n_rows)) for a in range(0, n_rows, room)]
+
+
+def continuation_note(table: str, n_rows: int, names: Sequence[str]) -> str:
+    """The report sentence for a table spread over several sheets."""
+    listed = ", ".join(f"'{n}'" for n in names[:-1]) + f" and '{names[-1]}'"
+    return (
+        f"The table '{table}' has {n_rows} rows, more than one sheet holds "
+        f"({MAX_SHEET_ROWS} rows with its title and header); it continues over the sheets "
+        f"{listed}, each with the same title and header."
+    )
+
+
+def table_sheet(
     frame: pd.DataFrame,
     styles: StyleBook,
     *,
     header_row: int,
-    data_rows: Sequence[int],
+    data_rows: Sequence[int] | np.ndarray,
     column_formats: Mapping[str, str],
     column_widths: Mapping[str, float],
     title_lines: Sequence[str] = (),
@@ -222,68 +288,106 @@ def table_sheet_xml(
     verdict_column: str = "verdict",
     date1904: bool = False,
     notes: CellNotes | None = None,
-) -> bytes:
-    """A complete worksheet part holding ``frame``: titles, one header row, one row per record."""
+) -> SheetPart:
+    """A complete worksheet part holding ``frame``: titles, one header row, one row per record.
+
+    ``data_rows`` are increasing row numbers below ``header_row``, at most
+    :data:`MAX_SHEET_ROWS`; split longer tables first (:func:`sheet_pieces`).
+    """
     notes = notes if notes is not None else CellNotes()
+    rows = np.asarray(data_rows, dtype=np.int64)
+    if len(rows) != len(frame):
+        raise ValueError(f"{len(frame)} records for {len(rows)} rows")
+    if len(rows) and (rows[-1] > MAX_SHEET_ROWS or rows[0] <= header_row):
+        raise ValueError(f"rows {rows[0]}..{rows[-1]} do not fit below header row {header_row}")
     header_style = styles.style(None, HEADER_MARK)
     title_style = styles.style(None, TITLE_MARK)
     verdicts = styles.verdict_styles()
     names = [str(c) for c in frame.columns]
     letters = [column_letter(i + 1) for i in range(len(names))]
-    rows: dict[int, str] = {
-        i + 1: inline_string_cell(f"A{i + 1}", line, title_style, notes)
+    top = [
+        f'<row r="{i + 1}">{inline_string_cell(f"A{i + 1}", line, title_style, notes)}</row>'
         for i, line in enumerate(title_lines)
-    }
-    rows[header_row] = "".join(
+    ]
+    header = "".join(
         inline_string_cell(f"{letter}{header_row}", name, header_style, notes)
         for letter, name in zip(letters, names, strict=True)
     )
-    columns = []
+    top.append(f'<row r="{header_row}">{header}</row>')
+    plans = []
     widths = []
-    for letter, name, col in zip(letters, names, frame.columns, strict=True):
-        series = frame[col]
+    for j, (letter, name) in enumerate(zip(letters, names, strict=True)):
+        series = frame.iloc[:, j]
         fmt = column_formats.get(name) or _default_format(series)
-        columns.append(
-            column_cells(
-                series,
-                letter,
-                data_rows,
-                styles.style(fmt),
-                value_styles=verdicts if name == verdict_column else None,
-                date1904=date1904,
-                notes=notes,
-            )
-        )
+        value_styles = verdicts if name == verdict_column else None
+        plans.append((series, letter, styles.style(fmt), value_styles))
         widths.append(column_widths.get(name) or column_width(name, series, fmt))
-    for r, cells in zip(data_rows, zip(*columns, strict=True) if columns else (), strict=False):
-        rows[r] = "".join(cells)
-    last_row = max(rows)
+    last_row = int(rows[-1]) if len(rows) else header_row
     last_letter = letters[-1] if letters else "A"
-    body = "".join(f'<row r="{r}">{rows[r]}</row>' for r in sorted(rows))
     pane = ""
     if freeze_header:
-        top = f"A{header_row + 1}"
+        first = f"A{header_row + 1}"
         pane = (
-            f'<pane ySplit="{header_row}" topLeftCell="{top}" activePane="bottomLeft" '
+            f'<pane ySplit="{header_row}" topLeftCell="{first}" activePane="bottomLeft" '
             'state="frozen"/>'
-            f'<selection pane="bottomLeft" activeCell="{top}" sqref="{top}"/>'
+            f'<selection pane="bottomLeft" activeCell="{first}" sqref="{first}"/>'
         )
     cols = "".join(
         f'<col min="{i + 1}" max="{i + 1}" width="{w:.2f}" customWidth="1"/>'
         for i, w in enumerate(widths)
     )
-    xml = (
+    head = (
         '<?xml version="1.0" encoding="UTF-8" standalone="yes"?>\n'
         f'<worksheet xmlns="{NS_MAIN}" xmlns:r="{NS_DOC_REL}">'
         f'<dimension ref="A1:{last_letter}{last_row}"/>'
         f'<sheetViews><sheetView workbookViewId="0">{pane}</sheetView></sheetViews>'
         '<sheetFormatPr defaultRowHeight="15"/>'
         + (f"<cols>{cols}</cols>" if cols else "")
-        + f"<sheetData>{body}</sheetData>"
+        + "<sheetData>"
+        + "".join(top)
+    )
+    tail = (
+        "</sheetData>"
         '<pageMargins left="0.7" right="0.7" top="0.75" bottom="0.75" header="0.3" footer="0.3"/>'
         "</worksheet>"
     )
-    return xml.encode("utf-8")
+
+    def rows_xml(start: int, stop: int) -> Iterator[memoryview]:
+        """The rows of records ``start:stop``, halved until each piece fits an Arrow string
+        array (2 GiB of text: only very long texts in many cells come near it)."""
+        numbers = row_numbers(rows[start:stop])
+        scratch = CellNotes()
+        try:
+            cells = [
+                column_cells(
+                    series.iloc[start:stop],
+                    letter,
+                    numbers,
+                    style,
+                    value_styles=value_styles,
+                    date1904=date1904,
+                    notes=scratch,
+                )
+                for series, letter, style, value_styles in plans
+            ]
+            text = join_cells(cells, ['<row r="', numbers, '">'], "</row>")
+        except (pa.ArrowCapacityError, pa.ArrowInvalid):
+            if stop - start < 2:
+                raise
+            middle = (start + stop) // 2
+            yield from rows_xml(start, middle)
+            yield from rows_xml(middle, stop)
+            return
+        notes.truncated += scratch.truncated
+        notes.infinite += scratch.infinite
+        notes.other += scratch.other
+        yield string_bytes(text)
+
+    def body() -> Iterator[memoryview]:
+        for start in range(0, len(rows), CHUNK_ROWS):
+            yield from rows_xml(start, min(start + CHUNK_ROWS, len(rows)))
+
+    return SheetPart(head.encode("utf-8"), body, tail.encode("utf-8"))
 
 
 def _default_format(series: pd.Series) -> str | None:
