@@ -193,6 +193,9 @@ def actions_frame(frame: pd.DataFrame, results: pd.DataFrame) -> pd.DataFrame:
     soak = flags.str.contains("soak-advised", regex=False).to_numpy()
     hot = flags.str.contains("temperature-decides", regex=False).to_numpy()
     entries = []
+    source_row = frame["source_row"].to_numpy()
+    part = _labels(frame["part"])
+    characteristic = _labels(frame["characteristic"])
 
     def add(mask: np.ndarray, action: str, reason) -> None:
         """``reason``: a text, or a function of the selected rows giving one text per row."""
@@ -200,9 +203,9 @@ def actions_frame(frame: pd.DataFrame, results: pd.DataFrame) -> pd.DataFrame:
         if rows.size == 0:
             return
         entries.append(pd.DataFrame({
-            "source_row": frame["source_row"].to_numpy()[rows],
-            "part": frame["part"].to_numpy(dtype=object)[rows],
-            "characteristic": frame["characteristic"].to_numpy(dtype=object)[rows],
+            "source_row": source_row[rows],
+            "part": part[rows],
+            "characteristic": characteristic[rows],
             "action": action,
             "reason": reason if isinstance(reason, str) else reason(rows),
         }))
@@ -243,6 +246,13 @@ def actions_frame(frame: pd.DataFrame, results: pd.DataFrame) -> pd.DataFrame:
         return pd.DataFrame(columns=columns)
     return pd.concat(entries, ignore_index=True).sort_values(
         ["source_row"], kind="stable").reset_index(drop=True)
+
+
+def _labels(column: pd.Series) -> np.ndarray:
+    """A text column as an object array, converted once per distinct value ('' for blanks)."""
+    codes, uniques = pd.factorize(column, use_na_sentinel=True)
+    table = np.append(np.asarray(uniques, dtype=object), "")
+    return table[codes]  # code -1 (blank) picks the trailing ''
 
 
 def band_actions(frame: pd.DataFrame, characteristics: pd.DataFrame,
