@@ -351,7 +351,7 @@ def _results(table: InspectionTable, m: MeasurementArrays, budget: BatchBudget,
         "coverage_factor": np.where(evaluated, budget.k, np.nan),
         "expanded_uncertainty": length(budget.U),
         "effective_dof": np.where(evaluated, budget.nu_eff, np.nan),
-        "verdict": np.asarray(VERDICT_NAMES, dtype=object)[verdict_code],
+        "verdict": pd.Categorical.from_codes(verdict_code, VERDICT_NAMES),
         "conformance_probability": np.where(evaluated, decision.conformance_probability, np.nan),
         "capability_index": np.where(evaluated, decision.capability_index, np.nan),
         "uncertainty_ratio": np.where(evaluated, tur, np.nan),
@@ -371,7 +371,7 @@ def _results(table: InspectionTable, m: MeasurementArrays, budget: BatchBudget,
 
 
 def _flags(frame: pd.DataFrame, budget: BatchBudget, decision: Decision,
-           evaluated: np.ndarray, settings: Settings) -> np.ndarray:
+           evaluated: np.ndarray, settings: Settings) -> pd.Categorical:
     """';'-separated warning codes per row (docs/columns.md lists them).
 
     Each condition is a bit; the few distinct combinations are turned into text once.
@@ -400,4 +400,6 @@ def _flags(frame: pd.DataFrame, budget: BatchBudget, decision: Decision,
         names = [reader_names[c >> len(bits)]] if reader_names[c >> len(bits)] else []
         names += [name for j, (name, _) in enumerate(bits) if c >> j & 1]
         texts.append(";".join(names))
-    return np.asarray(texts, dtype=object)[inverse]
+    unique_texts = list(dict.fromkeys(texts))
+    remap = np.array([unique_texts.index(t) for t in texts], dtype=np.int64)
+    return pd.Categorical.from_codes(remap[inverse.ravel()], unique_texts)
