@@ -202,13 +202,9 @@ def actions_frame(frame: pd.DataFrame, results: pd.DataFrame) -> pd.DataFrame:
         rows = np.flatnonzero(mask)
         if rows.size == 0:
             return
-        entries.append(pd.DataFrame({
-            "source_row": source_row[rows],
-            "part": part[rows],
-            "characteristic": characteristic[rows],
-            "action": action,
-            "reason": reason if isinstance(reason, str) else reason(rows),
-        }))
+        text = (np.full(rows.size, reason, dtype=object) if isinstance(reason, str)
+                else np.asarray(reason(rows), dtype=object))
+        entries.append((rows, action, text))
 
     def soak_reason(rows: np.ndarray) -> np.ndarray:
         low = results["soak_minutes_low"].to_numpy(dtype=float)[rows]
@@ -244,8 +240,18 @@ def actions_frame(frame: pd.DataFrame, results: pd.DataFrame) -> pd.DataFrame:
     columns = ["source_row", "part", "characteristic", "action", "reason"]
     if not entries:
         return pd.DataFrame(columns=columns)
-    return pd.concat(entries, ignore_index=True).sort_values(
-        ["source_row"], kind="stable").reset_index(drop=True)
+    rows = np.concatenate([e[0] for e in entries])
+    order = np.argsort(source_row[rows], kind="stable")  # by spreadsheet row, actions in turn
+    rows = rows[order]
+    return pd.DataFrame({
+        "source_row": source_row[rows],
+        "part": part[rows],
+        "characteristic": characteristic[rows],
+        "action": pd.Categorical.from_codes(
+            np.repeat(np.arange(len(entries)), [e[0].size for e in entries])[order],
+            [e[1] for e in entries]),
+        "reason": np.concatenate([e[2] for e in entries])[order],
+    })
 
 
 def _labels(column: pd.Series) -> np.ndarray:
