@@ -212,3 +212,14 @@ def test_action_list_gives_soak_times_and_temperature_bands(demo) -> None:
     assert row["band_high_c"] == pytest.approx(20 + 2.787, abs=0.002)
     bore = bands[bands["characteristic"] == "Bore A"]["reason"].iloc[0]
     assert bore.startswith("uncorrected 17.2 to 22.8 °C")
+
+
+def test_folder_run_keeps_results_of_same_named_inputs(tmp_path) -> None:
+    for name in ("housings_winter.xlsx", "housings_winter.csv"):
+        shutil.copy(DEMO / name, tmp_path / name)
+    out = tmp_path / "out"
+    out.mkdir()
+    res = CliRunner().invoke(app, ["normalise", str(tmp_path), "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    assert sorted(p.name for p in out.iterdir()) == [
+        "housings_winter-xlsx.checked.xlsx", "housings_winter.checked.xlsx"]

@@ -156,12 +156,17 @@ def normalise(
     files = _inputs(input)
     worst = 0
     failed = 0
+    taken: set[Path] = set()
     with render.progress(len(files) > 1) as step:
         for path in files:
             try:
                 ev = evaluate_file(path, layout=_layout(layout), sheet=sheet,
                                    register=instruments, settings=settings, limits=limits)
                 out = _output_for(path, output, len(files) > 1, default_output)
+                if out in taken:  # name.csv and name.xlsx in one folder: keep both results
+                    out = out.with_name(f"{path.stem}-{path.suffix.lstrip('.').lower()}"
+                                        f"{out.name[len(path.stem):]}")
+                taken.add(out)
                 written = write_results(ev, out, force=force)
                 render.summary(ev, out, written)
                 if report:
@@ -169,7 +174,7 @@ def normalise(
             except QcError as exc:
                 if len(files) == 1:
                     raise _fail(exc) from None
-                render.error(f"{path.name}: skipped: {exc}")
+                render.error(f"skipped: {exc}")
                 failed += 1
                 step()
                 continue
