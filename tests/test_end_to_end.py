@@ -223,3 +223,20 @@ def test_folder_run_keeps_results_of_same_named_inputs(tmp_path) -> None:
     assert res.exit_code == 0, res.output
     assert sorted(p.name for p in out.iterdir()) == [
         "housings_winter-xlsx.checked.xlsx", "housings_winter.checked.xlsx"]
+
+
+def test_readme_commands_run(tmp_path, monkeypatch) -> None:
+    """Every `.venv/bin/qc …` line of the README runs as shown (in a copy of the demo folder)."""
+    import shlex
+
+    readme = (Path(__file__).resolve().parent.parent / "README.md").read_text(encoding="utf-8")
+    lines = [ln.split("#")[0].strip() for ln in readme.splitlines()
+             if ln.startswith(".venv/bin/qc ")]
+    assert len(lines) >= 5
+    shutil.copytree(DEMO, tmp_path / "demo_inspections")
+    monkeypatch.chdir(tmp_path)
+    runner = CliRunner()
+    for line in lines:
+        args = shlex.split(line)[1:]
+        res = runner.invoke(app, args)
+        assert res.exit_code == 0, (line, res.output)
