@@ -105,9 +105,9 @@ def _layout(path: Path | None):
 
 def _inputs(target: Path) -> list[Path]:
     if target.is_dir():
-        files = sorted(p for p in target.iterdir() if p.suffix.lower() in
-                       (".xlsx", ".xlsm", ".csv", ".tsv", ".ods") and ".checked" not in p.name
-                       and not p.name.startswith(("~$", ".")))
+        kinds = (".xlsx", ".xlsm", ".csv", ".tsv", ".ods", ".parquet")
+        files = sorted(p for p in target.iterdir() if p.suffix.lower() in kinds
+                       and ".checked" not in p.name and not p.name.startswith(("~$", ".")))
         if not files:
             raise typer.BadParameter(f"{target}: no inspection files (.xlsx, .xlsm, .csv, "
                                      ".tsv, .ods) in this folder")

@@ -13,6 +13,7 @@ notation, then the ISO 2768-1 class (column or layout default).
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 
 import numpy as np
 import pandas as pd
@@ -86,33 +87,42 @@ class _Errors:
             self.add(i, name, p.value, p.expected, p.hint, column_of)
 
 
+def _per_distinct(values: np.ndarray, fn: Callable[[object], object],
+                  dtype: object = object) -> np.ndarray:
+    """``fn`` of every cell, called once per distinct value (blanks included) and spread back."""
+    codes, distinct = pd.factorize(np.asarray(values, dtype=object), use_na_sentinel=False)
+    return np.asarray([fn(v) for v in distinct], dtype=dtype)[codes] if len(codes) else (
+        np.empty(0, dtype=dtype))
+
+
 def _map_units(values: np.ndarray, kind: str) -> tuple[np.ndarray, dict[str, None]]:
     """Canonical unit per cell of a unit column; unknown spellings returned separately."""
-    out = np.full(len(values), None, dtype=object)
     bad: dict[str, None] = {}
-    s = pd.Series(values, dtype=object)
-    for text in pd.unique(s[s != ""]):
+
+    def unit_of(text: object) -> str | None:
+        if text == "":
+            return None
         u = canonical_unit(text, kind)  # type: ignore[arg-type]
         if u is None and kind == "length":
-            u = _ANGLE_UNITS.get(text.strip().lower())
+            u = _ANGLE_UNITS.get(text.strip().lower())  # type: ignore[attr-defined]
         if u is None:
-            bad[text] = None
-        out[(s == text).to_numpy()] = u
+            bad[text] = None  # type: ignore[index]
+        return u
+
+    out = _per_distinct(values, unit_of)
     return out, bad
 
 
 def _factor(units: np.ndarray) -> np.ndarray:
     """mm per unit for an object array of length units (degrees count as 1: angles kept)."""
-    s = pd.Series(units, dtype=object)
-    table = {u: (1.0 if u == "degree" else length_factor(u)) for u in pd.unique(s)}
-    return s.map(table).to_numpy(dtype=float)
+    return _per_distinct(units, lambda u: 1.0 if u == "degree" else length_factor(u), float)
 
 
 def _choose(*arrays: np.ndarray) -> np.ndarray:
     """First non-None value per row across arrays of equal length."""
     out = arrays[0].copy()
     for a in arrays[1:]:
-        missing = pd.isna(pd.Series(out, dtype=object)).to_numpy()
+        missing = pd.isna(out)
         out[missing] = a[missing]
     return out
 
@@ -224,7 +234,7 @@ def assemble(raw: RawTable, layout: Layout, *, decimal: str = ".",
             err.add(i, f, raw.get(f)[i], "an expansion coefficient in 1/K (such as 11.5e-6) "
                     "or with its unit (11.5 ppm/K)")
         units = np.where(unmarked, "1/kelvin", units)
-        fac = pd.Series(units, dtype=object).map(lambda u: cte_factor(u)).to_numpy(dtype=float)
+        fac = _per_distinct(units, cte_factor, float)
         out = p.first * fac
         out[big] = np.nan
         return out
@@ -281,10 +291,11 @@ def assemble(raw: RawTable, layout: Layout, *, decimal: str = ".",
     upper[inverted] = np.nan
     tol_text = text["tolerance"]
     feature = np.full(n, None, dtype=object)
-    for t in pd.unique(pd.Series(text["hole_or_shaft"], dtype=object)):
+    codes, distinct = pd.factorize(text["hole_or_shaft"], use_na_sentinel=False)
+    for j, t in enumerate(distinct):
         if t == "":
             continue
-        rows = text["hole_or_shaft"] == t
+        rows = codes == j
         f = _FEATURES.get(t.lower())
         if f is None:
             for i in np.flatnonzero(rows):
@@ -415,9 +426,10 @@ def assemble(raw: RawTable, layout: Layout, *, decimal: str = ".",
     # --- dates, kind, mode
     measured, pr = parse_dates(raw.get("measured_at"), date_order=layout.date_order)
     err.take(pr, "measured_at")
-    kinds = pd.Series(text["kind"], dtype=object).str.lower().str.strip()
     unscaled = set(load_synonyms().unscaled_kinds)
-    scaled = ~(kinds.isin(unscaled).to_numpy() | angle_rows)
+    unscaled_kind = _per_distinct(
+        text["kind"], lambda k: isinstance(k, str) and k.lower().strip() in unscaled, bool)
+    scaled = ~(unscaled_kind | angle_rows)
     mode = np.where(np.isfinite(master), "comparison", "direct")
 
     flags = np.full(n, "", dtype=object)
@@ -431,10 +443,10 @@ def assemble(raw: RawTable, layout: Layout, *, decimal: str = ".",
             notes.append(f"{int(undated.sum())} row(s) without a measurement date: calibration "
                          "due dates not checked for them")
 
-    frame = pd.DataFrame({
+    columns = {
         "part": text["part"], "characteristic": text["characteristic"],
         "kind": text["kind"], "feature": feature,
-        "unit": pd.Series(row_unit, dtype=object).map(_unit_label).to_numpy(),
+        "unit": _per_distinct(row_unit, _unit_label),
         "nominal_mm": nominal, "lower_limit_mm": lower, "upper_limit_mm": upper,
         "tolerance_text": tol_text, "tolerance_description": tol_desc,
         "reading_mean_mm": mean, "reading_sd_mm": sd, "n_readings": n_read,
@@ -452,8 +464,9 @@ def assemble(raw: RawTable, layout: Layout, *, decimal: str = ".",
         "measured_at": measured, "flags": flags,
         "source_file": raw.file, "source_sheet": raw.sheet, "source_row": raw.rows,
         "source_column": (raw.letters.get(first_field) if reading_fields else None),
-    })
-    _check_bounds(frame, err)
+    }
+    _check_bounds(columns, err)  # on the arrays: no column of a built frame is replaced
+    frame = pd.DataFrame(columns)
     items = sorted(err.items, key=lambda e: (e.index, e.column or ""))
     return frame, items
 
@@ -463,14 +476,14 @@ def _unit_label(u: str) -> str:
             "centimeter": "cm", "meter": "m", "degree": "°"}.get(u, u)
 
 
-def _check_bounds(frame: pd.DataFrame, err: _Errors) -> None:
-    """Plausibility bounds declared on InspectionRecord, checked column-wise; pydantic writes
-    the message for the few cells that fail."""
+def _check_bounds(columns: dict[str, np.ndarray], err: _Errors) -> None:
+    """Plausibility bounds declared on InspectionRecord, checked on the frame's column arrays;
+    pydantic writes the message for the few cells that fail."""
     for col, src in _BOUND_SOURCES.items():
         b = bounds(InspectionRecord, col)
         if not b:
             continue
-        v = frame[col].to_numpy(dtype=float, copy=True)
+        v = np.array(columns[col], dtype=float)  # a copy
         fin = np.isfinite(v)
         bad = np.zeros(len(v), dtype=bool)
         if "ge" in b:
@@ -490,7 +503,7 @@ def _check_bounds(frame: pd.DataFrame, err: _Errors) -> None:
             value = err.raw.get(src)[i] if source else float(v[i])
             err.add(int(i), src, value, expected, column_of=source)
             v[i] = np.nan
-        frame[col] = v
+        columns[col] = v
 
 
 def _instruments(inst: np.ndarray, register: Register | None, err: _Errors,
@@ -503,10 +516,11 @@ def _instruments(inst: np.ndarray, register: Register | None, err: _Errors,
     if types is not None:
         known += list(types.names())
     lowered = {k.lower(): k for k in (register.entries if register else {})}
-    for name in pd.unique(pd.Series(inst, dtype=object)):
+    codes, distinct = pd.factorize(inst.astype(object), use_na_sentinel=False)
+    for j, name in enumerate(distinct):
         if name == "":
             continue
-        rows = inst == name
+        rows = codes == j
         if register is not None and name in register.invalid:
             for i in np.flatnonzero(rows):
                 err.add(i, "instrument", name, "an instrument with a usable register entry",

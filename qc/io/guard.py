@@ -13,7 +13,10 @@ touches one, :func:`guard_file` decides, cheaply and in bounded memory, whether 
   the used area of each worksheet (``<dimension ref>`` and the cell references themselves) is
   compared with the row, column and cell limits;
 * a text file is checked for size, binary content, encoding (UTF-8, else Windows-1252 with a
-  note) and separators that change from line to line.
+  note) and separators that change from line to line; the fields of each line are counted on
+  the bytes with numpy (the file, at most ``max_text_mb``, is read whole, as the reader reads it),
+  and only lines with a quote that does not simply open or close a field, or with another
+  number of fields, go through the csv module.
 
 Macros in ``.xlsm`` files are never run: nothing in ``qc`` executes workbook content.
 The limits and their reasons are in ``qc/data/limits.toml``; each message names the command-line
@@ -32,6 +35,7 @@ import tomllib
 import zipfile
 import zlib
 from collections import Counter
+from collections.abc import Callable
 from dataclasses import dataclass
 from functools import cache
 from importlib import resources
@@ -39,6 +43,8 @@ from itertools import pairwise
 from pathlib import Path
 from typing import Any
 from xml.parsers import expat
+
+import numpy as np
 
 from qc.errors import DataFileError, FileReadError, LimitExceededError
 from qc.io.csvfile import sniff_delimiter
@@ -602,28 +608,16 @@ def _check_text(path: Path, lim: Limits, delimiter: str | None) -> list[str]:
     except csv.Error as exc:
         raise _unsplittable(name, None, exc) from exc
     typical = max(widths, key=lambda w: (widths[w], w)) if widths else 0
-    mixed: list[tuple[int, str]] = []
-    ragged: list[int] = []
-    n_rows = width = 0
-    with path.open("r", encoding=enc, newline="") as fh:
-        reader = csv.reader(fh, delimiter=delimiter)
-        start = 1
-        try:
-            for row in reader:
-                n_rows += 1
-                width = max(width, len(row))
-                if n_rows > lim.max_rows or width > lim.max_columns:
-                    break  # reported below; no need to read on
-                if typical > 1 and len(row) != typical and any(f.strip() for f in row):
-                    other = _other_delimiter(delimiter.join(row), delimiter, typical)
-                    if other is not None:
-                        mixed.append((start, other))
-                    elif len(row) > 1:  # a one-field line is a title or a remark
-                        ragged.append(start)
-                    del mixed[11:], ragged[11:]  # enough to name; memory stays bounded
-                start = reader.line_num + 1
-        except csv.Error as exc:
-            raise _unsplittable(name, start, exc) from exc
+    scan = _RowScan(typical, delimiter, lim)
+    lines = _Lines.read(path, enc, delimiter)
+    try:
+        if lines is None:
+            _scan_with_csv(path, enc, scan)
+        else:
+            _scan_lines(lines, scan)
+    except csv.Error as exc:
+        raise _unsplittable(name, scan.start, exc) from exc
+    n_rows, width, mixed, ragged = scan.n_rows, scan.width, scan.mixed, scan.ragged
     if n_rows > lim.max_rows:
         raise _too_big(name, f"the file has {n_rows:,} rows", "max_rows", lim.max_rows, " rows",
                        "an inspection sheet this long is unlikely")
@@ -647,6 +641,253 @@ def _check_text(path: Path, lim: Limits, delimiter: str | None) -> list[str]:
         notes.append(f"{name}: rows {rows} have another number of fields than the "
                      f"{typical} of most rows; check them for a separator inside unquoted text")
     return notes
+
+
+class _RowScan:
+    """Row count, widest row and the first odd rows of a text file, fed row by row or in runs.
+
+    A row whose field count differs from the ``typical`` one is named as split by another
+    separator (``mixed``) or as ragged; the first eleven of each are kept (enough to name).
+    Scanning stops at the first row over the row or column limit.
+    """
+
+    def __init__(self, typical: int, delimiter: str, lim: Limits) -> None:
+        self.typical, self.delimiter, self.lim = typical, delimiter, lim
+        self.n_rows = self.width = 0
+        self.start = 1  # 1-based line where the current row starts
+        self.mixed: list[tuple[int, str]] = []
+        self.ragged: list[int] = []
+        self.stopped = False
+
+    def _full(self) -> bool:
+        return len(self.mixed) > 10 and len(self.ragged) > 10
+
+    def row(self, row: list[str], start: int) -> None:
+        """One row split by the csv module, starting on line ``start``."""
+        self.n_rows += 1
+        self.width = max(self.width, len(row))
+        if self.n_rows > self.lim.max_rows or self.width > self.lim.max_columns:
+            self.stopped = True  # reported by the caller; no need to read on
+            return
+        if self.typical > 1 and len(row) != self.typical:
+            self._odd(row, start)
+
+    def run(self, widths: np.ndarray, first_line: int, row_of: Callable[[int], list[str]]) -> None:
+        """A run of rows of one line each: field counts ``widths``, the first on 0-based line
+        ``first_line``; ``row_of(k)`` splits the k-th row of the run (odd rows only)."""
+        if not len(widths):
+            return
+        lim = self.lim
+        rows = self.n_rows + 1 + np.arange(len(widths))
+        widest = np.maximum(np.maximum.accumulate(widths), self.width)
+        over = np.flatnonzero((rows > lim.max_rows) | (widest > lim.max_columns))
+        end = int(over[0]) + 1 if len(over) else len(widths)
+        if self.typical > 1 and not self._full():
+            for k in np.flatnonzero(widths[:end] != self.typical):
+                if k == end - 1 and len(over):
+                    break
+                self._odd(row_of(int(k)), first_line + int(k) + 1)
+                if self._full():
+                    break
+        self.n_rows = int(rows[end - 1])
+        self.width = int(widest[end - 1])
+        self.stopped = bool(len(over))
+
+    def _odd(self, row: list[str], start: int) -> None:
+        if any(f.strip() for f in row):
+            other = _other_delimiter(self.delimiter.join(row), self.delimiter, self.typical)
+            if other is not None:
+                self.mixed.append((start, other))
+            elif len(row) > 1:  # a one-field line is a title or a remark
+                self.ragged.append(start)
+            del self.mixed[11:], self.ragged[11:]  # enough to name; memory stays bounded
+
+
+def _scan_with_csv(path: Path, enc: str, scan: _RowScan) -> None:
+    """Every row through the csv module (separators that are not one ASCII character)."""
+    with path.open("r", encoding=enc, newline="") as fh:
+        reader = csv.reader(fh, delimiter=scan.delimiter)
+        for row in reader:
+            scan.row(row, scan.start)
+            if scan.stopped:
+                return
+            scan.start = reader.line_num + 1
+
+
+_SPLIT_CHUNK = 16 * _MB  # bytes compared at a time: temporary masks stay this small
+_QUOTE_CHUNK = _MB  # bytes at a time where quotes are looked up: they stay in cache
+_QUOTE_STEP = 1 << 20  # quotes checked at a time
+
+
+@dataclass
+class _Lines:
+    """Physical lines of a text file as byte offsets, with separators counted per line.
+
+    Lines end as Python's universal newlines end them (LF, CR LF or a lone CR), so they are
+    the lines the csv module sees. The separator and the quote are ASCII, and both encodings
+    read here (UTF-8, Windows-1252) keep ASCII bytes for ASCII characters only, so counting
+    bytes counts characters.
+    """
+
+    data: bytes
+    enc: str
+    starts: np.ndarray  # first byte of each line
+    stops: np.ndarray  # end of each line's text, before its line break
+    nexts: np.ndarray  # first byte after each line's line break
+    seps: np.ndarray  # separators on each line
+    quoted: np.ndarray  # lines holding a quote character, ascending
+
+    @classmethod
+    def read(cls, path: Path, enc: str, delimiter: str) -> _Lines | None:
+        """None where counting cannot stand for the csv module (a line longer than the
+        csv field limit, or a separator that is not one ASCII character)."""
+        if len(delimiter) != 1 or not delimiter.isascii() or delimiter in "\r\n\"":
+            return None
+        data = path.read_bytes()
+        if enc == "utf-8-sig" and data.startswith(codecs.BOM_UTF8):
+            data = data[len(codecs.BOM_UTF8):]
+        arr = np.frombuffer(data, dtype=np.uint8)
+        n = len(arr)
+        if n == 0:
+            none = np.zeros(0, dtype=np.int64)
+            return cls(data, enc, none, none, none, none, none)
+        lf = _where(arr, ord("\n"))
+        if b"\r" in data:
+            cr = _where(arr, ord("\r"))
+            lone = cr[(cr + 1 >= n) | (arr[np.minimum(cr + 1, n - 1)] != ord("\n"))]
+            breaks = np.union1d(lf, lone)
+        else:
+            breaks = lf
+        nexts = breaks + 1
+        if not len(breaks) or nexts[-1] < n:
+            nexts = np.append(nexts, n)  # a last line without a line break
+            breaks = np.append(breaks, n)
+        starts = np.concatenate(([0], nexts[:-1])).astype(np.int64)
+        crlf = (breaks < n) & (breaks > starts)
+        crlf[crlf] = arr[breaks[crlf] - 1] == ord("\r")
+        stops = breaks - crlf
+        if n and int((stops - starts).max(initial=0)) > csv.field_size_limit():
+            return None
+        quotes = _where(arr, ord('"')) if b'"' in data else np.zeros(0, dtype=np.int64)
+        quoted, odd = _quoted_lines(arr, quotes, breaks, ord(delimiter))
+        seps = _per_line(arr, ord(delimiter), breaks, quotes, odd)
+        return cls(data, enc, starts, stops, nexts, seps, quoted)
+
+    def text(self, i: int) -> str:
+        """Line i with its line break, decoded."""
+        return self.data[self.starts[i]:self.nexts[i]].decode(self.enc)
+
+
+def _where(arr: np.ndarray, byte: int) -> np.ndarray:
+    """Positions of one byte value, compared a chunk at a time."""
+    parts = [np.flatnonzero(arr[a:a + _SPLIT_CHUNK] == byte) + a
+             for a in range(0, len(arr), _SPLIT_CHUNK)]
+    return np.concatenate(parts) if parts else np.zeros(0, dtype=np.int64)
+
+
+def _per_line(arr: np.ndarray, byte: int, breaks: np.ndarray,
+              quotes: np.ndarray | None = None, odd: bool = False) -> np.ndarray:
+    """Count of one byte value on each line (lines end at ``breaks``), chunk by chunk.
+
+    With ``quotes``, an occurrence after an odd number of quotes on its line (inside a quoted
+    field) is not counted; ``odd``: some line holds an odd number of quotes.
+    """
+    if quotes is not None and odd:  # quotes before each line's first byte
+        first = np.searchsorted(quotes, np.concatenate(([0], breaks[:-1] + 1)))
+    before = np.empty(len(breaks), dtype=np.int64)  # occurrences before each line's break
+    seen = 0
+    step = _SPLIT_CHUNK if quotes is None or not len(quotes) else _QUOTE_CHUNK
+    for a in range(0, len(arr), step):
+        b = min(a + step, len(arr))
+        pos = np.flatnonzero(arr[a:b] == byte) + a
+        if quotes is not None and len(quotes):
+            q0, q1 = np.searchsorted(quotes, (a, b))
+            inside = np.searchsorted(quotes[q0:q1], pos) + q0
+            if odd:
+                inside -= first[np.searchsorted(breaks, pos)]
+            pos = pos[(inside & 1) == 0]
+        lo, hi = np.searchsorted(breaks, (a, b))
+        before[lo:hi] = seen + np.searchsorted(pos, breaks[lo:hi])
+        seen += len(pos)
+    before[np.searchsorted(breaks, len(arr)):] = seen
+    return np.diff(before, prepend=0)
+
+
+def _quoted_lines(arr: np.ndarray, quotes: np.ndarray, breaks: np.ndarray,
+                  delimiter: int) -> tuple[np.ndarray, bool]:
+    """Lines the csv module must split (ascending), and whether a line has an odd number of
+    quotes.
+
+    A line is split by counting when each of its quotes opens a field (after a separator, a
+    line break or another quote) or closes one (before a separator, a line break or another
+    quote) in turn: then, as in the csv module's default dialect (doubled quotes inside a
+    quoted field), the separators that count are those after an even number of quotes.
+    """
+    if not len(quotes):
+        return np.zeros(0, dtype=np.int64), False
+    per_line = np.diff(np.searchsorted(quotes, breaks), prepend=0)
+    odd_lines = np.flatnonzero(per_line & 1)
+    edge = np.zeros(256, dtype=bool)
+    edge[[delimiter, ord('"'), ord("\n"), ord("\r")]] = True
+    closing = np.zeros(len(quotes), dtype=bool)
+    closing[1::2] = True
+    if len(odd_lines):  # the quote count of later lines starts odd: flip their roles
+        flips = np.zeros(len(quotes) + 1, dtype=np.uint8)
+        np.bitwise_xor.at(flips, np.cumsum(per_line)[odd_lines], 1)
+        closing ^= np.bitwise_xor.accumulate(flips)[:-1].astype(bool)
+    bad = []
+    step = _QUOTE_STEP
+    for a in range(0, len(quotes), step):
+        q = quotes[a:a + step]
+        # the byte before an opening quote, after a closing one; clipped at the ends of the
+        # file to the quote itself, which counts as an edge
+        near = q - 1
+        near += 2 * closing[a:a + step]
+        bad.append(q[~edge[arr.take(near, mode="clip")]])
+    lines = np.union1d(np.searchsorted(breaks, np.concatenate(bad)), odd_lines)
+    return lines.astype(np.int64), bool(len(odd_lines))
+
+
+class _Feed:
+    """Lines for a csv reader from any line on; the reader takes only what one row needs."""
+
+    def __init__(self, lines: _Lines) -> None:
+        self.lines, self.pos = lines, 0
+
+    def __iter__(self) -> _Feed:
+        return self
+
+    def __next__(self) -> str:
+        if self.pos >= len(self.lines.starts):
+            raise StopIteration
+        self.pos += 1
+        return self.lines.text(self.pos - 1)
+
+
+def _scan_lines(lines: _Lines, scan: _RowScan) -> None:
+    """Rows of lines without quotes counted in runs; a row starting on a line with a quote
+    goes through the csv module (a quoted field may hold separators and line breaks)."""
+    total = len(lines.starts)
+    feed = _Feed(lines)
+    reader = csv.reader(feed, delimiter=scan.delimiter)
+    empty = lines.stops == lines.starts
+    pos = 0
+    while pos < total and not scan.stopped:
+        k = int(np.searchsorted(lines.quoted, pos))
+        stop = int(lines.quoted[k]) if k < len(lines.quoted) else total
+        if stop > pos:
+            widths = np.where(empty[pos:stop], 0, lines.seps[pos:stop] + 1)
+
+            def row_of(j: int, base: int = pos) -> list[str]:
+                return next(csv.reader([lines.text(base + j)], delimiter=scan.delimiter))
+
+            scan.run(widths, pos, row_of)
+            pos = stop
+            continue
+        scan.start = pos + 1
+        feed.pos = pos
+        scan.row(next(reader, []), scan.start)
+        pos = feed.pos
 
 
 def _unsplittable(name: str, row: int | None, exc: csv.Error) -> FileReadError:

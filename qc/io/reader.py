@@ -21,6 +21,7 @@ from qc.io.grid import Grid, column_letter
 from qc.io.guard import Limits, guard_file
 from qc.io.headers import HeaderScan, find_header_row, suggest_field
 from qc.io.layout import load_layout
+from qc.io.parquetfile import read_parquet_grid
 from qc.io.raw import RawTable
 from qc.io.register import REGISTER_SHEETS, Register, read_register, register_from_grid
 from qc.io.wide import WideHeader, find_wide_header, wide_to_raw
@@ -83,20 +84,25 @@ def read_grid(path: Path, *, sheet: str | None = None, prefer: tuple[str, ...] =
         return read_workbook_sheet(path, sheet, prefer=prefer, avoid=avoid)
     if suffix in TEXT_SUFFIXES:
         return read_delimited(path, delimiter=delimiter, decimal=decimal)
+    if suffix == ".parquet":
+        return read_parquet_grid(path)
     raise FileReadError(
         f"{path.name}: files of type {suffix or '(none)'} cannot be read; "
-        "use .xlsx, .xlsm, .ods, .csv or .tsv"
+        "use .xlsx, .xlsm, .ods, .csv, .tsv or .parquet"
     )
 
 
 def _long_raw(grid: Grid, scan: HeaderScan) -> tuple[RawTable, list[int]]:
     start = (scan.unit_row if scan.unit_row is not None else scan.row) + 1
     filled = ~grid.blank()[start:].all(axis=1)
-    data_rows = [int(i) + start for i in np.flatnonzero(filled)]
-    raw = RawTable(file=grid.file, sheet=grid.sheet, rows=np.array(data_rows, dtype=np.int64) + 1)
-    dr = np.array(data_rows, dtype=np.int64)
+    dr = np.flatnonzero(filled).astype(np.int64) + start
+    data_rows = dr.tolist()
+    raw = RawTable(file=grid.file, sheet=grid.sheet, rows=dr + 1)
+    # no blank line between the data rows (the usual case): a slice, copied column by column
+    block = slice(int(dr[0]), int(dr[-1]) + 1) if len(dr) and dr[-1] - dr[0] + 1 == len(dr) else dr
     for m in scan.matches:
-        raw.cells[m.field] = grid.cells[dr, m.column] if len(dr) else np.array([], dtype=object)
+        raw.cells[m.field] = (grid.cells[block, m.column].copy() if len(dr)
+                              else np.array([], dtype=object))
         raw.letters[m.field] = m.letter
         raw.headers[m.field] = m.header
         raw.header_units[m.field] = m.unit
@@ -164,7 +170,8 @@ def read_inspection(path: Path | str, *, layout: Layout | Path | str | None = No
     last = int(used.max()) if len(used) else 0
     return InspectionTable(
         frame=frame, columns=columns, errors=errors, warnings=warnings, layout=lay,
-        header_row=header_row, data_rows=[r + 1 for r in data_rows], sheet=grid.sheet,
+        header_row=header_row, data_rows=(np.asarray(data_rows, dtype=np.int64) + 1).tolist(),
+        sheet=grid.sheet,
         last_column=column_letter(last), file=grid.file, kind=kind, register=reg,
         wide=wide if kind == "wide" else None, delimiter=grid.delimiter,
     )

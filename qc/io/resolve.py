@@ -43,18 +43,21 @@ def material_cte(names: np.ndarray) -> MaterialCte:
     from qc.library.materials import load_materials
 
     lib = load_materials()
-    for name in pd.unique(s[filled]):
-        rows = np.flatnonzero((s == name).to_numpy())
+    codes, distinct = pd.factorize(s, use_na_sentinel=False)
+    by_code = np.full((len(distinct), 2), np.nan)  # (cte, cte_u) per distinct name
+    for j, name in enumerate(distinct):
+        if name == "":
+            continue
         try:
             m = lib.get(name)
         except UnknownNameError as exc:
             hint = ("did you mean " + " or ".join(repr(x) for x in exc.suggestions) + "?"
                     if exc.suggestions else "add it to your materials file or give the CTE")
-            for i in rows:
+            for i in np.flatnonzero(codes == j):
                 problems[int(i)] = Problem(name, "a known material", hint)
             continue
-        cte[rows] = float(m.cte)
-        u[rows] = float(m.cte_u)
+        by_code[j] = float(m.cte), float(m.cte_u)
+    cte, u = by_code[codes, 0], by_code[codes, 1]
     return MaterialCte(cte, u, problems)
 
 
@@ -74,13 +77,16 @@ def parse_tolerances(
         idx = np.flatnonzero(units == unit)
         f = length_factor(unit)
         tol_unit = _TOL_UNITS.get(unit, f)
-        feats = [x if x in ("hole", "shaft") else None for x in features[idx]]
+        group = pd.Series(features[idx], dtype=object)
+        feats = np.where(group.isin(("hole", "shaft")).to_numpy(), group.to_numpy(), None)
         lower, upper, nominal, descr, errs = parse_tolerance_column(
-            list(texts[idx]), nominals[idx] / f, features=feats, unit=tol_unit, decimal=decimal)
+            texts[idx].astype(object), nominals[idx] / f, features=feats, unit=tol_unit,
+            decimal=decimal)
         lo[idx] = np.asarray(lower, dtype=float) * f
         hi[idx] = np.asarray(upper, dtype=float) * f
         nom[idx] = np.asarray(nominal, dtype=float) * f
-        desc[idx] = [d or "" for d in descr]
+        descr = np.asarray(descr, dtype=object)
+        desc[idx] = np.where(np.equal(descr, None), "", descr)  # None: no description
         for j, e in errs.items():
             problems[int(idx[j])] = Problem(texts[idx[j]], "a tolerance", str(e))
     return lo, hi, nom, desc, problems

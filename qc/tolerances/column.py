@@ -29,13 +29,17 @@ def _codes(values: Sequence[object] | np.ndarray, n: int, what: str) -> tuple[np
     if arr.dtype.kind in "fiu":
         uniq, inv = np.unique(np.asarray(arr, dtype=float), return_inverse=True)
         return inv.reshape(-1), [None if math.isnan(u) else float(u) for u in uniq]
-    seen: dict[object, int] = {}
     items = arr.tolist()
-    if arr.dtype.kind != "U":
-        items = [_key(v) for v in items]
-    # one dictionary look-up per row: hashing, not parsing (faster than sorting strings)
-    codes = np.fromiter(map(lambda v: seen.setdefault(v, len(seen)), items), dtype=np.intp, count=n)
-    return codes, list(seen)
+    # distinct values in order of first appearance, then one C-level look-up per row: hashing,
+    # not parsing, and no Python call per row
+    distinct = list(dict.fromkeys(items))
+    position = {v: j for j, v in enumerate(distinct)}
+    keys: dict[object, int] = {}
+    remap = np.empty(len(distinct), dtype=np.intp)
+    for j, v in enumerate(distinct):  # blanks (None, NaN) share one code
+        remap[j] = keys.setdefault(_key(v), len(keys))
+    codes = remap[np.fromiter(map(position.__getitem__, items), dtype=np.intp, count=n)]
+    return codes, list(keys)
 
 
 def _key(v: object) -> object:

@@ -56,7 +56,7 @@ def test_unknown_file_type_and_missing_file(tmp_path: Path) -> None:
     with pytest.raises(FileReadError) as e:
         read_inspection(p)
     assert str(e.value) == ("scan.pdf: files of type .pdf cannot be read; use .xlsx, .xlsm, "
-                            ".ods, .csv or .tsv")
+                            ".ods, .csv, .tsv or .parquet")
     with pytest.raises(FileReadError) as e:
         read_inspection(tmp_path / "gone.csv")
     assert str(e.value) == "gone.csv: no such file"
