@@ -233,7 +233,8 @@ def test_readme_commands_run(tmp_path, monkeypatch) -> None:
     lines = [ln.split("#")[0].strip() for ln in readme.splitlines()
              if ln.startswith(".venv/bin/qc ")]
     assert len(lines) >= 5
-    shutil.copytree(DEMO, tmp_path / "demo_inspections")
+    shutil.copytree(DEMO, tmp_path / "demo_inspections",  # without outputs of earlier runs
+                    ignore=shutil.ignore_patterns("*.checked.*", "*.report.*"))
     monkeypatch.chdir(tmp_path)
     runner = CliRunner()
     for line in lines:
