@@ -19,6 +19,7 @@ from qc.core.decision import SAFETY_NOTE, VERDICT_NAMES
 from qc.errors import OutputError
 from qc.io.writeback import SheetTable, WriteReport, write_back, write_new_workbook
 from qc.io.writers import write_table
+from qc.io.xlsx_package import column_index
 from qc.pipeline import Evaluation
 from qc.results import FLAG_CODES, RESULT_COLUMNS
 
@@ -79,7 +80,7 @@ def write_results(ev: Evaluation, output: Path, *, force: bool = False) -> Write
             beside, rows = ev.results[list(BESIDE_DATA)], list(t.data_rows)
         beside = _infinity_as_text(beside, ("effective_dof",))
         return write_back(source, output, sheet=t.sheet or "", header_row=t.header_row,
-                          data_rows=rows, last_column=_column_index(t.last_column),
+                          data_rows=rows, last_column=column_index(t.last_column),
                           results=beside, column_formats=formats, extra_sheets=sheets,
                           force=force)
     data = _infinity_as_text(ev.flat(), ("effective_dof",))
@@ -96,15 +97,6 @@ def _infinity_as_text(frame: pd.DataFrame, columns: tuple[str, ...]) -> pd.DataF
             out[c] = np.where(np.isinf(v), "∞", pd.Series(v, dtype=object)).astype(object)
             out.loc[np.isnan(v), c] = None
     return out
-
-
-def _column_index(letters: str | int) -> int:
-    if isinstance(letters, int):
-        return letters
-    n = 0
-    for ch in letters.upper():
-        n = n * 26 + ord(ch) - 64
-    return n
 
 
 def _wide_part_verdicts(ev: Evaluation) -> tuple[pd.DataFrame, list[int]]:

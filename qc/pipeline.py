@@ -330,7 +330,8 @@ def _results(table: InspectionTable, m: MeasurementArrays, budget: BatchBudget,
     def length(a: np.ndarray) -> np.ndarray:
         return np.where(evaluated, a / f, np.nan)
 
-    flags = _flags(frame, budget, decision, evaluated, settings)
+    tur = (_col(frame, "upper_limit_mm") - _col(frame, "lower_limit_mm")) / (2 * budget.U)
+    flags = _flags(frame, budget, decision, evaluated, settings, tur)
     missing = _missing_inputs(frame, m)
     message = np.full(n, "", dtype=object)
     for i, msgs in errors_by_row.items():
@@ -339,7 +340,6 @@ def _results(table: InspectionTable, m: MeasurementArrays, budget: BatchBudget,
     unscaled_note = np.where(m.scaled, "", "not scaled for temperature (angle or form)")
     message = np.where((message == "") & evaluated, unscaled_note, message)
 
-    tur = (_col(frame, "upper_limit_mm") - _col(frame, "lower_limit_mm")) / (2 * budget.U)
     out = pd.DataFrame({
         "unit": unit,
         "lower_limit": _col(frame, "lower_limit_mm") / f,
@@ -371,13 +371,12 @@ def _results(table: InspectionTable, m: MeasurementArrays, budget: BatchBudget,
 
 
 def _flags(frame: pd.DataFrame, budget: BatchBudget, decision: Decision,
-           evaluated: np.ndarray, settings: Settings) -> pd.Categorical:
+           evaluated: np.ndarray, settings: Settings, tur: np.ndarray) -> pd.Categorical:
     """';'-separated warning codes per row (docs/columns.md lists them).
 
     Each condition is a bit; the few distinct combinations are turned into text once.
     """
     n = len(frame)
-    tur = (_col(frame, "upper_limit_mm") - _col(frame, "lower_limit_mm")) / (2 * budget.U)
     part_t, gauge_t = _col(frame, "part_temp_c"), _col(frame, "gauge_temp_c")
     ref = np.where(np.isfinite(gauge_t), gauge_t, _col(frame, "room_temp_c"))
     off = np.abs(part_t - ref) > settings.soak_band_k

@@ -9,7 +9,7 @@ import pandas as pd
 from qc.core.band import allowable_band
 from qc.core.budget import BatchBudget
 from qc.core.labels import distribution_name
-from qc.core.soak import soak_time_for_rows
+from qc.core.soak import radiation_coefficient, soak_time_for_rows
 from qc.errors import QcError
 
 __all__ = [
@@ -139,8 +139,8 @@ def soak_advice(frame: pd.DataFrame, results: pd.DataFrame,
                 band_k: float) -> tuple[np.ndarray, np.ndarray]:
     """Soak time range (minutes) for rows flagged soak-advised; NaN elsewhere.
 
-    Still air on a rack (qc/data/heat_transfer.toml), the part as a solid cube of its nominal
-    size when no geometry is known (the note in docs/thermal.md says so).
+    Still air on a rack with a dull surface (qc/data/heat_transfer.toml), the part as a solid
+    cube of its nominal size when no geometry is known (the note in docs/thermal.md says so).
     """
     n = len(frame)
     low, high = np.full(n, np.nan), np.full(n, np.nan)
@@ -151,7 +151,8 @@ def soak_advice(frame: pd.DataFrame, results: pd.DataFrame,
     from qc.library.materials import load_materials
 
     library = load_materials()
-    still = load_heat_transfer()[0]["still-air"]
+    resting, surfaces = load_heat_transfer()
+    still, dull = resting["still-air"], surfaces["dull-metal"]
     names = frame["part_material"].fillna("").to_numpy(dtype=object)[rows]
     props = np.full((rows.size, 3), np.nan)
     for name in set(names.tolist()):
@@ -174,10 +175,12 @@ def soak_advice(frame: pd.DataFrame, results: pd.DataFrame,
         return low, high
     r, part, target, size = r[good], part[good], target[good], size[good]
     p = props[ok][good]
-    h_rad = 5.7 * 0.3  # dull metal, linearised radiation at 293 K (reference table)
-    soak = soak_time_for_rows(part, target, band_k, p[:, 0], p[:, 1], p[:, 2],
-                              still.h_low + h_rad, still.h_nominal + h_rad,
-                              still.h_high + h_rad, size)
+    # radiation of a dull, shop-worn surface added to still-air convection, each end of the
+    # range with its own emissivity (qc/data/heat_transfer.toml)
+    h = [float(c + radiation_coefficient(e)) for c, e in (
+        (still.h_low, dull.eps_low), (still.h_nominal, dull.eps_nominal),
+        (still.h_high, dull.eps_high))]
+    soak = soak_time_for_rows(part, target, band_k, p[:, 0], p[:, 1], p[:, 2], *h, size)
     low[r] = soak.fast_s / 60.0
     high[r] = soak.slow_s / 60.0
     return low, high
