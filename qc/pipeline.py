@@ -254,8 +254,14 @@ def _missing_inputs(frame: pd.DataFrame, m: MeasurementArrays) -> np.ndarray:
     return reasons
 
 
-def evaluate_table(table: InspectionTable, settings: Settings) -> Evaluation:
-    """Evaluate every row of a validated table: correction, budget, verdict, flags, actions."""
+def evaluate_table(table: InspectionTable, settings: Settings, *,
+                   summaries: bool = True) -> Evaluation:
+    """Evaluate every row of a validated table: correction, budget, verdict, flags, actions.
+
+    ``summaries=False`` leaves out what describes the table as a whole (per-characteristic
+    statistics and temperature bands, and the band actions built on them): a chunk of a file
+    read in parts gets its per-row results only.
+    """
     if not 0.5 <= settings.coverage < 1.0 and settings.k is None:
         raise ConfigError(
             f"coverage probability {settings.coverage!r}: expected a fraction such as 0.9545")
@@ -279,13 +285,15 @@ def evaluate_table(table: InspectionTable, settings: Settings) -> Evaluation:
     ev = Evaluation(
         table=table, measurements=m, budget=budget, decision=decision, rule=rule,
         settings=settings, results=results,
-        characteristics=characteristic_frame(table.frame, results, settings.tolerance_share),
-        actions=pd.DataFrame(),
+        characteristics=characteristic_frame(table.frame, results, settings.tolerance_share)
+        if summaries else pd.DataFrame(),
+        actions=actions_frame(table.frame, results),
     )
-    ev.actions = pd.concat(
-        [actions_frame(ev.table.frame, results),
-         band_actions(ev.table.frame, ev.characteristics, settings.tolerance_share)],
-        ignore_index=True)
+    if summaries:
+        ev.actions = pd.concat(
+            [ev.actions,
+             band_actions(ev.table.frame, ev.characteristics, settings.tolerance_share)],
+            ignore_index=True)
     ev.notes.extend(plausibility_notes)
     if budget.reference_warning:
         ev.notes.append(budget.reference_warning)

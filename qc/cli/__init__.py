@@ -26,6 +26,9 @@ app = typer.Typer(
     add_completion=False,
 )
 
+#: Inputs larger than this get a progress bar while they are evaluated in chunks.
+PROGRESS_MIN_BYTES = 8 << 20
+
 LayoutOpt = Annotated[Path | None, typer.Option(
     "--layout", "-l", help="Layout file (TOML) pinning the shop's headers and defaults.",
     exists=True, dir_okay=False)]
@@ -148,6 +151,7 @@ def normalise(
     """Correct every reading to 20 °C, add its uncertainty and verdict, write the results."""
     from qc.export import default_output, write_results
     from qc.pipeline import evaluate_file
+    from qc.streaming import evaluate_to_table, streamable
 
     settings = _settings(rule, coverage, k, reference_temperature, units.value)
     limits = _limits(max_uncompressed_mb=max_uncompressed_mb, max_ratio=max_ratio,
@@ -160,17 +164,28 @@ def normalise(
     with render.progress(len(files) > 1) as step:
         for path in files:
             try:
-                ev = evaluate_file(path, layout=_layout(layout), sheet=sheet,
-                                   register=instruments, settings=settings, limits=limits)
                 out = _output_for(path, output, len(files) > 1, default_output)
                 if out in taken:  # name.csv and name.xlsx in one folder: keep both results
                     out = out.with_name(f"{path.stem}-{path.suffix.lstrip('.').lower()}"
                                         f"{out.name[len(path.stem):]}")
                 taken.add(out)
-                written = write_results(ev, out, force=force)
-                render.summary(ev, out, written)
-                if report:
-                    _build_report(ev, out, force)
+                if streamable(path, out) and not report:  # large files go in chunks
+                    big = len(files) == 1 and path.stat().st_size > PROGRESS_MIN_BYTES
+                    with render.rows_progress(big, path.name) as moved:
+                        run = evaluate_to_table(path, out, layout=_layout(layout),
+                                                register=instruments, settings=settings,
+                                                limits=limits, force=force, progress=moved)
+                    render.run_summary(run.file, run.rows, run.counts, run.actions,
+                                       run.n_actions, run.notes, out)
+                    counts = run.counts
+                else:
+                    ev = evaluate_file(path, layout=_layout(layout), sheet=sheet,
+                                       register=instruments, settings=settings, limits=limits)
+                    written = write_results(ev, out, force=force)
+                    render.summary(ev, out, written)
+                    if report:
+                        _build_report(ev, out, force)
+                    counts = ev.counts
             except QcError as exc:
                 if len(files) == 1:
                     raise _fail(exc) from None
@@ -178,7 +193,6 @@ def normalise(
                 failed += 1
                 step()
                 continue
-            counts = ev.counts
             if fail_on != FailOn.never and counts["nonconforming"]:
                 worst = 1
             if fail_on == FailOn.borderline and counts["borderline"]:

@@ -9,7 +9,14 @@ from pathlib import Path
 from typing import Any
 
 from rich.console import Console
-from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn
+from rich.progress import (
+    BarColumn,
+    MofNCompleteColumn,
+    Progress,
+    TaskProgressColumn,
+    TextColumn,
+    TimeElapsedColumn,
+)
 from rich.table import Table
 
 console = Console()
@@ -51,27 +58,49 @@ def _num(v: Any, digits: int = 4) -> str:
 
 
 def summary(ev, out: Path, written) -> None:
-    """Counts per verdict and the rows that need action."""
-    t = Table(title=f"{Path(ev.table.file).name}: {len(ev.results)} measurements",
-              title_justify="left")
+    """Counts per verdict and the rows that need action, of a whole-file evaluation."""
+    run_summary(Path(ev.table.file).name, len(ev.results), ev.counts, ev.actions,
+                len(ev.actions), [*ev.notes, *(written.notes if written else ())], out)
+
+
+def run_summary(name: str, rows: int, counts: dict[str, int], actions, n_actions: int,
+                notes: list[str], out: Path) -> None:
+    """Counts per verdict, the first rows that need action, notes and where the results are."""
+    t = Table(title=f"{name}: {rows} measurements", title_justify="left")
     t.add_column("verdict")
     t.add_column("rows", justify="right")
-    for v, n in ev.counts.items():
+    for v, n in counts.items():
         t.add_row(f"[{_VERDICT_STYLE[v]}]{v}[/]", str(n))
     console.print(t)
-    if len(ev.actions):
+    if n_actions:
         a = Table(title="Needs action", title_justify="left")
         for col in ("row", "part", "characteristic", "action"):
             a.add_column(col)
-        shown = ev.actions.head(15)
+        shown = actions.head(15)
         for r in shown.itertuples(index=False):
             a.add_row(str(r.source_row), str(r.part), str(r.characteristic), str(r.action))
         console.print(a)
-        if len(ev.actions) > len(shown):
-            info(f"… and {len(ev.actions) - len(shown)} more in the Actions sheet")
-    for note in [*ev.notes, *(written.notes if written else ())]:
+        if n_actions > len(shown):
+            where = ("the flags and message columns of the output"
+                     if out.suffix.lower() in (".csv", ".parquet", ".jsonl")
+                     else "the Actions sheet")
+            info(f"… and {n_actions - len(shown)} more in {where}")
+    for note in notes:
         info(f"note: {note}")
     info(f"results: {out}")
+
+
+@contextmanager
+def rows_progress(show: bool, name: str) -> Iterator[Callable[[float, int], None]]:
+    """A progress bar over one large file read in chunks: share read, rows written."""
+    if not show:
+        yield lambda fraction, rows: None
+        return
+    with Progress(TextColumn(name), BarColumn(), TaskProgressColumn(),
+                  TextColumn("{task.fields[rows]:,} rows"), TimeElapsedColumn(),
+                  console=err_console, transient=True) as bar:
+        task = bar.add_task(name, total=1.0, rows=0)
+        yield lambda fraction, rows: bar.update(task, completed=fraction, rows=rows)
 
 
 def check(table) -> None:

@@ -19,6 +19,8 @@ import csv
 import io
 import re
 from collections import Counter
+from collections.abc import Iterator
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -29,11 +31,14 @@ import pyarrow.csv as pa_csv
 from qc.errors import FileReadError
 from qc.io.grid import Grid
 
-__all__ = ["read_delimited", "sniff_decimal", "sniff_delimiter"]
+__all__ = ["DelimitedStream", "NotStreamable", "read_delimited", "sniff_decimal",
+           "sniff_delimiter", "stream_delimited"]
 
 _CANDIDATES = (";", ",", "\t", "|")
 _COMMA_NUM = re.compile(r"\d,\d")
 _POINT_NUM = re.compile(r"\d\.\d")
+#: Rows whose fields are the evidence for the decimal mark.
+SNIFF_ROWS = 2000
 _NAMES = {";": "semicolon", ",": "comma", "\t": "tab", "|": "vertical bar"}
 
 
@@ -123,41 +128,52 @@ def _head(text: str, delimiter: str) -> tuple[list[list[str]], int, int] | None:
     return head, offset, width
 
 
-def _arrow_columns(data: bytes | memoryview, delimiter: str, width: int,
-                   ) -> list[tuple[np.ndarray, np.ndarray]] | None:
-    """Columns split by pyarrow as (object array of str, blank mask), or None where pyarrow
-    cannot be trusted.
+def _options(delimiter: str, width: int, block_size: int | None = None,
+             ) -> tuple[pa_csv.ReadOptions, pa_csv.ParseOptions, pa_csv.ConvertOptions]:
+    """pyarrow options that split like the csv module: every field text, nothing null."""
+    names = [f"c{j}" for j in range(width)]
+    read = pa_csv.ReadOptions(column_names=names) if block_size is None else \
+        pa_csv.ReadOptions(column_names=names, block_size=block_size)
+    return (read,
+            pa_csv.ParseOptions(delimiter=delimiter, newlines_in_values=True,
+                                ignore_empty_lines=False),
+            pa_csv.ConvertOptions(column_types=dict.fromkeys(names, pa.string()),
+                                  strings_can_be_null=False, quoted_strings_can_be_null=False))
 
-    None: pyarrow refused the text (rows of other widths, broken quoting) or a field is
-    longer than ``csv.field_size_limit()``, which the csv module reports as an error. Each
-    column is dictionary-encoded first, so one str object is made per distinct value and
+
+def _text_columns(columns: list[pa.ChunkedArray] | list[pa.Array],
+                  ) -> list[tuple[np.ndarray, np.ndarray]] | None:
+    """Arrow string columns as (object array of str, blank mask); None when a field is
+    longer than ``csv.field_size_limit()``, which the csv module reports as an error.
+
+    Each column is dictionary-encoded first, so one str object is made per distinct value and
     the cells share it (memory, and hashing later, scale with distinct values); the blank
     mask (empty or whitespace only, as :meth:`Grid.blank`) is found per distinct value too.
     """
-    names = [f"c{j}" for j in range(width)]
     limit = csv.field_size_limit()
+    out = []
+    for col in columns:
+        arr = col.combine_chunks() if isinstance(col, pa.ChunkedArray) else col
+        if len(arr) and (pc.max(pc.binary_length(arr)).as_py() or 0) > limit \
+                and (pc.max(pc.utf8_length(arr)).as_py() or 0) > limit:
+            return None
+        enc = arr.dictionary_encode()
+        values = enc.dictionary.to_numpy(zero_copy_only=False)
+        blank = np.fromiter((not v.strip() for v in values), dtype=bool, count=len(values))
+        codes = enc.indices.to_numpy(zero_copy_only=False)
+        out.append((values[codes], blank[codes]))
+    return out
+
+
+def _arrow_columns(data: bytes | memoryview, delimiter: str, width: int,
+                   ) -> list[tuple[np.ndarray, np.ndarray]] | None:
+    """Columns split by pyarrow as (object array of str, blank mask), or None where pyarrow
+    cannot be trusted (rows of other widths, broken quoting, a field over the size limit)."""
+    read, parse, convert = _options(delimiter, width)
     try:
-        table = pa_csv.read_csv(
-            pa.py_buffer(data),
-            read_options=pa_csv.ReadOptions(column_names=names),
-            parse_options=pa_csv.ParseOptions(delimiter=delimiter, newlines_in_values=True,
-                                              ignore_empty_lines=False),
-            convert_options=pa_csv.ConvertOptions(
-                column_types=dict.fromkeys(names, pa.string()), strings_can_be_null=False,
-                quoted_strings_can_be_null=False),
-        )
-        out = []
-        for col in table.columns:
-            arr = col.combine_chunks()
-            if len(arr) and (pc.max(pc.binary_length(arr)).as_py() or 0) > limit \
-                    and (pc.max(pc.utf8_length(arr)).as_py() or 0) > limit:
-                return None
-            enc = arr.dictionary_encode()
-            values = enc.dictionary.to_numpy(zero_copy_only=False)
-            blank = np.fromiter((not v.strip() for v in values), dtype=bool, count=len(values))
-            codes = enc.indices.to_numpy(zero_copy_only=False)
-            out.append((values[codes], blank[codes]))
-        return out
+        table = pa_csv.read_csv(pa.py_buffer(data), read_options=read, parse_options=parse,
+                                convert_options=convert)
+        return _text_columns(table.columns)
     except (pa.ArrowException, ValueError, OverflowError):
         return None
 
@@ -180,18 +196,9 @@ def _split_rows(text: str, data: bytes, delimiter: str, *, sample: bool,
         cols = _arrow_columns(body, delimiter, width) if len(body) else None
     if cols is not None:
         wide = max(width, *(len(r) for r in head)) if head else width
-        cells = np.empty((len(head) + len(cols[0][0]), wide), dtype=object)
-        blank = np.ones(cells.shape, dtype=bool)
-        if wide > width or head:
-            cells[:] = ""
-        for i, r in enumerate(head):  # a few rows above the header
-            cells[i, : len(r)] = r
-            blank[i, : len(r)] = [not f.strip() for f in r]
-        for j, (c, b) in enumerate(cols):
-            cells[len(head):, j] = c
-            blank[len(head):, j] = b
+        cells, blank = _chunk_cells(head, cols, wide)  # head: a few rows above the header
         # an empty line is one row of '' for pyarrow and [] for csv: the same cells
-        fields = [f for row in cells[:2000].tolist() for f in row] if sample else []
+        fields = [f for row in cells[:SNIFF_ROWS].tolist() for f in row] if sample else []
         return cells, blank, fields
     rows = list(csv.reader(io.StringIO(text), delimiter=delimiter))
     width = max((len(r) for r in rows), default=0)
@@ -199,7 +206,7 @@ def _split_rows(text: str, data: bytes, delimiter: str, *, sample: bool,
     cells[:] = ""
     for i, r in enumerate(rows):
         cells[i, : len(r)] = r
-    return cells, None, [f for r in rows[:2000] for f in r] if sample else []
+    return cells, None, [f for r in rows[:SNIFF_ROWS] for f in r] if sample else []
 
 
 def read_delimited(path: Path, *, delimiter: str | None = None, decimal: str | None = None) -> Grid:
@@ -237,3 +244,167 @@ def read_delimited(path: Path, *, delimiter: str | None = None, decimal: str | N
         file=path.name, sheet=None, cells=cells, decimal=decimal, delimiter=delimiter,
         notes=notes, _blank=blank,
     )
+
+
+#: Bytes of the file's beginning read to sniff the delimiter and find the rows above the body.
+_PREFIX_BYTES = 4 << 20
+#: Bytes pyarrow reads at a time when streaming (one record batch each).
+_BLOCK_BYTES = 4 << 20
+#: Rows of the first chunk at least: the header is looked for in the first 60 rows and the
+#: decimal mark in the first SNIFF_ROWS, as when the whole file is read.
+FIRST_CHUNK_ROWS = SNIFF_ROWS + 100
+
+
+class NotStreamable(Exception):
+    """The file cannot be read in chunks with the same cells as a whole read; read it whole."""
+
+
+@dataclass
+class DelimitedStream:
+    """A delimited file read in chunks of rows, each chunk a :class:`Grid` whose
+    ``first_row`` says where it starts in the file; ``fraction`` tells how far reading is."""
+
+    chunks: Iterator[Grid]
+    size: int
+    _source: object
+
+    def fraction(self) -> float:
+        """Share of the file's bytes read so far (pyarrow reads a little ahead)."""
+        try:
+            return min(1.0, self._source.tell() / max(self.size, 1))  # type: ignore[attr-defined]
+        except (OSError, ValueError):
+            return 1.0
+
+
+def _plain_utf8(path: Path) -> bool:
+    """True when the file decodes as UTF-8 and every carriage return ends a CRLF pair (what
+    the whole-file reader hands to pyarrow); read in blocks, nothing kept."""
+    dec = codecs.getincrementaldecoder("utf-8-sig")()
+    tail = b""
+    try:
+        with path.open("rb") as fh:
+            while block := fh.read(16 << 20):
+                dec.decode(block)
+                both = tail + block
+                # a CR at the very end may pair with an LF in the next block
+                body = both[:-1] if both.endswith(b"\r") else both
+                if body.count(b"\r") != body.count(b"\r\n"):
+                    return False
+                tail = both[-1:] if both.endswith(b"\r") else b""
+            dec.decode(b"", True)
+    except UnicodeDecodeError:
+        return False
+    return tail == b""
+
+
+def stream_delimited(path: Path, *, delimiter: str | None = None, decimal: str | None = None,
+                     chunk_rows: int = 200_000) -> DelimitedStream:
+    """The file in chunks of about ``chunk_rows`` rows, the same cells as
+    :func:`read_delimited` would give, for files pyarrow splits the same way.
+
+    Raises :class:`NotStreamable` for a file that must be read whole (not UTF-8, bare carriage
+    returns, no regular body, rows of other widths met while reading), and only before the
+    first chunk is handed out or while reading a later one.
+    """
+    if not _plain_utf8(path):
+        raise NotStreamable(path.name)
+    size = path.stat().st_size
+    with path.open("rb") as fh:
+        prefix = fh.read(_PREFIX_BYTES)
+    bom = len(codecs.BOM_UTF8) if prefix.startswith(codecs.BOM_UTF8) else 0
+    whole = len(prefix) >= size
+    if not whole:  # whole rows only (a quoted line break at the cut is caught by _head)
+        prefix = prefix[: prefix.rfind(b"\n") + 1]
+    text = prefix[bom:].decode("utf-8", errors="strict")
+    if not text or text.isspace():
+        raise NotStreamable(path.name)
+    notes: list[str] = []
+    if delimiter is None:
+        if path.suffix.lower() == ".tsv":
+            delimiter = "\t"
+        else:
+            delimiter = sniff_delimiter(_head_lines(text, 200)) or ","
+            notes.append(f"{path.name}: fields separated by {_NAMES[delimiter]} (detected)")
+    lead = _head(text, delimiter)
+    if lead is None:
+        raise NotStreamable(path.name)
+    head, offset, width = lead
+    cut = bom + len(text[:offset].encode("utf-8"))
+    source = pa.OSFile(str(path), "r")
+    source.seek(cut)
+    read, parse, convert = _options(delimiter, width, block_size=_BLOCK_BYTES)
+    try:
+        reader = pa_csv.open_csv(source, read_options=read, parse_options=parse,
+                                 convert_options=convert)
+    except (pa.ArrowException, ValueError, OverflowError) as exc:
+        source.close()
+        raise NotStreamable(path.name) from exc
+    wide = max(width, *(len(r) for r in head)) if head else width
+
+    def chunks() -> Iterator[Grid]:
+        first_row, dec = 0, decimal
+        try:
+            first = max(chunk_rows, FIRST_CHUNK_ROWS)
+            for batches in _batched_rows(reader, chunk_rows, first):
+                cols = _text_columns([pa.concat_arrays([b.column(j) for b in batches])
+                                      for j in range(width)])
+                if cols is None:
+                    raise NotStreamable(path.name)
+                rows_above = head if first_row == 0 else []
+                cells, blank = _chunk_cells(rows_above, cols, wide)
+                chunk_notes: list[str] = []
+                if first_row == 0:
+                    chunk_notes = list(notes)
+                    if dec is None:
+                        fields = [f for row in cells[:SNIFF_ROWS].tolist() for f in row]
+                        dec, clear = sniff_decimal(fields, delimiter)
+                        word = "comma" if dec == "," else "point"
+                        how = "detected" if clear else "assumed; no decimal numbers found to tell"
+                        chunk_notes.append(f"{path.name}: decimal {word} ({how})")
+                yield Grid(file=path.name, sheet=None, cells=cells, decimal=dec,
+                           delimiter=delimiter, notes=chunk_notes, _blank=blank,
+                           first_row=first_row)
+                first_row += len(cells)
+        except (pa.ArrowException, ValueError, OverflowError) as exc:
+            raise NotStreamable(path.name) from exc
+        finally:
+            source.close()
+
+    return DelimitedStream(chunks=chunks(), size=size, _source=source)
+
+
+def _batched_rows(reader: pa_csv.CSVStreamingReader, rows: int, first: int,
+                  ) -> Iterator[list[pa.RecordBatch]]:
+    """Record batches regrouped (sliced, no copy) into groups of ``rows`` rows, the first of
+    ``first`` rows; the last group may be shorter."""
+    group: list[pa.RecordBatch] = []
+    n, want = 0, first
+    for batch in reader:
+        while batch.num_rows:
+            take = min(want - n, batch.num_rows)
+            group.append(batch.slice(0, take))
+            batch = batch.slice(take)
+            n += take
+            if n == want:
+                yield group
+                group, n, want = [], 0, rows
+    if group:
+        yield group
+
+
+def _chunk_cells(head: list[list[str]], cols: list[tuple[np.ndarray, np.ndarray]], wide: int,
+                 ) -> tuple[np.ndarray, np.ndarray]:
+    """Cells and blank mask of a chunk: ``head`` rows (those above the body, first chunk
+    only) then the body's columns, rows padded with '' to ``wide`` fields."""
+    n = len(cols[0][0]) if cols else 0
+    cells = np.empty((len(head) + n, wide), dtype=object)
+    blank = np.ones(cells.shape, dtype=bool)
+    if wide > len(cols) or head:
+        cells[:] = ""
+    for i, r in enumerate(head):
+        cells[i, : len(r)] = r
+        blank[i, : len(r)] = [not f.strip() for f in r]
+    for j, (c, b) in enumerate(cols):
+        cells[len(head):, j] = c
+        blank[len(head):, j] = b
+    return cells, blank

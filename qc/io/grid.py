@@ -24,7 +24,8 @@ class Grid:
     """Raw cells of one sheet; ``cells[i, j]`` is spreadsheet row i + 1, column j (0 = A).
 
     Blank cells are ''. ``merged`` lists merged ranges as ((row0, col0), (row1, col1)), 0-based
-    and inclusive. ``sheet`` is None for CSV files.
+    and inclusive. ``sheet`` is None for CSV files. A chunk of a file read in parts starts
+    at ``first_row`` (0-based): its ``cells[i, j]`` is row first_row + i + 1.
     """
 
     file: str
@@ -36,6 +37,7 @@ class Grid:
     delimiter: str | None = None
     notes: list[str] = field(default_factory=list)
     _blank: np.ndarray | None = field(default=None, repr=False)
+    first_row: int = 0
 
     def blank(self) -> np.ndarray:
         """True where a cell is empty or whitespace-only text (computed once, column-wise).

@@ -8,6 +8,8 @@ and characteristic), in input order.
 
 from __future__ import annotations
 
+import time
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -16,20 +18,20 @@ import pandas as pd
 
 from qc.errors import FileReadError
 from qc.io.assemble import assemble
-from qc.io.csvfile import read_delimited
+from qc.io.csvfile import NotStreamable, read_delimited, stream_delimited
 from qc.io.grid import Grid, column_letter
 from qc.io.guard import Limits, guard_file
 from qc.io.headers import HeaderScan, find_header_row, suggest_field
 from qc.io.layout import load_layout
-from qc.io.parquetfile import read_parquet_grid
+from qc.io.parquetfile import read_parquet_grid, stream_parquet
 from qc.io.raw import RawTable
 from qc.io.register import REGISTER_SHEETS, Register, read_register, register_from_grid
 from qc.io.wide import WideHeader, find_wide_header, wide_to_raw
 from qc.io.xlsx import read_workbook_sheet
 from qc.models import InspectionRecord, Layout, RowError
 
-__all__ = ["ColumnRef", "InspectionTable", "check", "read_grid", "read_inspection",
-           "record_of"]
+__all__ = ["ChunkedInspection", "ColumnRef", "InspectionTable", "NotStreamable", "check",
+           "read_grid", "read_inspection", "read_inspection_chunks", "record_of"]
 
 WORKBOOK_SUFFIXES = (".xlsx", ".xlsm", ".ods")
 TEXT_SUFFIXES = (".csv", ".tsv", ".txt")
@@ -62,6 +64,7 @@ class InspectionTable:
     register: Register | None = field(default=None, repr=False)
     wide: WideHeader | None = field(default=None, repr=False)
     delimiter: str | None = None
+    decimal_mark: str | None = None
 
     @property
     def ok(self) -> bool:
@@ -92,12 +95,15 @@ def read_grid(path: Path, *, sheet: str | None = None, prefer: tuple[str, ...] =
     )
 
 
-def _long_raw(grid: Grid, scan: HeaderScan) -> tuple[RawTable, list[int]]:
-    start = (scan.unit_row if scan.unit_row is not None else scan.row) + 1
+def _long_raw(grid: Grid, scan: HeaderScan, *, below_header: bool = True,
+              ) -> tuple[RawTable, list[int]]:
+    """The data rows' cells by field; ``below_header=False`` for a later chunk of a file read
+    in parts (every row of it is below the header). Row numbers count from the file's top."""
+    start = (scan.unit_row if scan.unit_row is not None else scan.row) + 1 if below_header else 0
     filled = ~grid.blank()[start:].all(axis=1)
     dr = np.flatnonzero(filled).astype(np.int64) + start
-    data_rows = dr.tolist()
-    raw = RawTable(file=grid.file, sheet=grid.sheet, rows=dr + 1)
+    data_rows = (dr + grid.first_row).tolist()
+    raw = RawTable(file=grid.file, sheet=grid.sheet, rows=dr + grid.first_row + 1)
     # no blank line between the data rows (the usual case): a slice, copied column by column
     block = slice(int(dr[0]), int(dr[-1]) + 1) if len(dr) and dr[-1] - dr[0] + 1 == len(dr) else dr
     for m in scan.matches:
@@ -115,12 +121,24 @@ def read_inspection(path: Path | str, *, layout: Layout | Path | str | None = No
                     limits: Limits | None = None) -> InspectionTable:
     """Read one inspection sheet into validated, typed records; see docs/columns.md."""
     path = Path(path)
-    if layout is not None and not isinstance(layout, Layout):
-        layout = load_layout(Path(layout))
-    lay = layout or Layout()
+    lay = _layout(layout)
     decimal_opt = None if lay.decimal == "auto" else lay.decimal
     grid = read_grid(path, sheet=sheet or lay.sheet, decimal=decimal_opt,
                      delimiter=lay.delimiter, avoid=REGISTER_SHEETS, limits=limits)
+    return _first_table(path, grid, lay, register, allow_wide=True)[0]
+
+
+def _layout(layout: Layout | Path | str | None) -> Layout:
+    if layout is not None and not isinstance(layout, Layout):
+        layout = load_layout(Path(layout))
+    return layout or Layout()
+
+
+def _first_table(path: Path, grid: Grid, lay: Layout, register: Path | str | None, *,
+                 allow_wide: bool) -> tuple[InspectionTable, HeaderScan | None]:
+    """The table of a whole sheet, or of the first chunk of a file read in parts, with the
+    header scan that later chunks reuse (None for a wide sheet)."""
+    decimal_opt = None if lay.decimal == "auto" else lay.decimal
     warnings = list(grid.notes)
     if not grid.cells.size or grid.blank().all():
         where = grid.file + (f" › {grid.sheet}" if grid.sheet else "")
@@ -131,9 +149,12 @@ def read_inspection(path: Path | str, *, layout: Layout | Path | str | None = No
                         "a comma is read as decimal mark only where it cannot be a thousands "
                         "separator")
 
-    reg = _register(path, grid, lay, register, decimal, warnings)
     wide = None if lay.layout == "long" else find_wide_header(grid, lay)
+    if wide is not None and not allow_wide:
+        raise NotStreamable(grid.file)
+    reg = _register(path, grid, lay, register, decimal, warnings)
     columns: dict[str, ColumnRef] = {}
+    scan: HeaderScan | None = None
     if wide is not None and lay.layout != "long":
         raw, data_rows = wide_to_raw(grid, wide)
         header_row = wide.char_row + 1
@@ -163,18 +184,102 @@ def read_inspection(path: Path | str, *, layout: Layout | Path | str | None = No
             warnings.append(f"{where} › {column_letter(c)}: header {text!r} not recognised, "
                             f"column ignored{extra}")
     if not data_rows:
+        if not allow_wide:  # a first chunk without data: let a whole read decide
+            raise NotStreamable(grid.file)
         where = grid.file + (f" › {grid.sheet}" if grid.sheet else "")
         raise FileReadError(f"{where}: no data rows under the header in row {header_row}")
     frame, errors = assemble(raw, lay, decimal=decimal, register=reg, notes=warnings)
-    used = np.flatnonzero(~grid.blank().all(axis=0))
-    last = int(used.max()) if len(used) else 0
-    return InspectionTable(
+    table = InspectionTable(
         frame=frame, columns=columns, errors=errors, warnings=warnings, layout=lay,
         header_row=header_row, data_rows=(np.asarray(data_rows, dtype=np.int64) + 1).tolist(),
-        sheet=grid.sheet,
-        last_column=column_letter(last), file=grid.file, kind=kind, register=reg,
-        wide=wide if kind == "wide" else None, delimiter=grid.delimiter,
+        sheet=grid.sheet, last_column=_last_column(grid), file=grid.file, kind=kind,
+        register=reg, wide=wide if kind == "wide" else None, delimiter=grid.delimiter,
+        decimal_mark=decimal,
     )
+    return table, scan
+
+
+def _last_column(grid: Grid) -> str:
+    used = np.flatnonzero(~grid.blank().all(axis=0))
+    return column_letter(int(used.max()) if len(used) else 0)
+
+
+def _next_table(grid: Grid, first: InspectionTable, scan: HeaderScan) -> InspectionTable:
+    """The table of a later chunk: the first chunk's header, layout, register and decimal."""
+    raw, data_rows = _long_raw(grid, scan, below_header=False)
+    warnings: list[str] = []
+    decimal = first.decimal_mark
+    frame, errors = assemble(raw, first.layout, decimal=decimal, register=first.register,
+                             notes=warnings)
+    return InspectionTable(
+        frame=frame, columns=first.columns, errors=errors, warnings=warnings,
+        layout=first.layout, header_row=first.header_row,
+        data_rows=(np.asarray(data_rows, dtype=np.int64) + 1).tolist(), sheet=None,
+        last_column=_last_column(grid), file=first.file, kind="long", register=first.register,
+        delimiter=first.delimiter, decimal_mark=decimal,
+    )
+
+
+@dataclass
+class ChunkedInspection:
+    """An inspection file read and validated in chunks of rows: ``tables`` yields one
+    :class:`InspectionTable` per chunk (row numbers count from the file's top, frame
+    positions from the chunk's); ``fraction`` tells how much of the file has been read."""
+
+    tables: Iterator[InspectionTable]
+    fraction: Callable[[], float]
+    #: wall-clock seconds spent so far reading cells (the rest is parsing and validating)
+    read_seconds: float = 0.0
+
+
+def read_inspection_chunks(path: Path | str, *, layout: Layout | Path | str | None = None,
+                           register: Path | str | None = None, limits: Limits | None = None,
+                           chunk_rows: int = 200_000) -> ChunkedInspection:
+    """Read a CSV, TSV or Parquet file in chunks, so memory stays bounded on large files.
+
+    Each chunk is validated as :func:`read_inspection` validates the whole file, with the
+    header, decimal mark and register found in the first chunk. Raises
+    :class:`~qc.io.csvfile.NotStreamable` before anything is read when the file has to be
+    read whole (a workbook, a wide sheet, text whose rows pyarrow would split differently
+    from the csv module); a later chunk may raise it too, so a caller that has written
+    results so far must start again with :func:`read_inspection`.
+    """
+    path = Path(path)
+    lay = _layout(layout)
+    suffix = path.suffix.lower()
+    if lay.layout == "wide" or suffix not in (*TEXT_SUFFIXES, ".parquet"):
+        raise NotStreamable(path.name)
+    if not path.exists():
+        raise FileReadError(f"{path.name}: no such file")
+    decimal_opt = None if lay.decimal == "auto" else lay.decimal
+    t = time.perf_counter()
+    if suffix == ".parquet":
+        stream = stream_parquet(path, chunk_rows=chunk_rows)
+    else:
+        guard_file(path, limits, delimiter=lay.delimiter)
+        stream = stream_delimited(path, delimiter=lay.delimiter, decimal=decimal_opt,
+                                  chunk_rows=chunk_rows)
+    grids = stream.chunks
+    first_grid = next(grids, None)
+    read_seconds = time.perf_counter() - t
+    if first_grid is None:
+        raise NotStreamable(path.name)
+    first, scan = _first_table(path, first_grid, lay, register, allow_wide=False)
+    assert scan is not None  # a long sheet
+
+    def tables() -> Iterator[InspectionTable]:
+        yield first
+        while True:
+            t = time.perf_counter()
+            grid = next(grids, None)
+            chunked.read_seconds += time.perf_counter() - t
+            if grid is None:
+                return
+            yield _next_table(grid, first, scan)
+
+    chunked = ChunkedInspection(tables=tables(), fraction=stream.fraction,
+                                read_seconds=read_seconds)
+    return chunked
 
 
 def _register(path: Path, grid: Grid, lay: Layout, register: Path | str | None, decimal: str,

@@ -4,6 +4,9 @@ Atomic write: the output is first written to a temporary file in the output's ow
 moved over the final name with ``os.replace`` (atomic on one file system, POSIX ``rename``), so a
 reader sees either the old file or the complete new one, never a partial file.
 
+A table can be written in parts (:func:`open_table`): chunks of a large input go out as they
+are evaluated, with one header and one set of column types.
+
 CSV injection: a text cell beginning with ``=``, ``+``, ``-``, ``@``, tab or carriage return is
 prefixed with a single quote, as the OWASP page "CSV Injection" recommends, so a spreadsheet
 opening the file shows text instead of evaluating a formula. Numeric columns are never touched:
@@ -103,21 +106,79 @@ def atomic_output(output: Path) -> Iterator[Path]:
 
 def write_table(frame: pd.DataFrame, output: Path, *, force: bool = False) -> None:
     """Write ``frame`` as CSV, Parquet or JSON Lines, chosen by the extension of ``output``."""
-    output = Path(output)
+    with open_table(output, force=force) as sink:
+        sink.write(frame)
+
+
+def _table_suffix(output: Path) -> str:
     suffix = output.suffix.lower()
     if suffix not in TABLE_SUFFIXES:
         raise OutputError(
             f"cannot write {output}: unknown table type {output.suffix or '(none)'!r}; "
             "use .csv, .parquet or .jsonl"
         )
+    return suffix
+
+
+class TableSink:
+    """A flat table written in parts (CSV, Parquet or JSON Lines): every part has the first
+    part's columns and types; the file appears under its name only when all are written."""
+
+    def __init__(self, path: Path, suffix: str) -> None:
+        self.path, self.suffix = path, suffix
+        self.schema: pa.Schema | None = None
+        self._writer: pa_csv.CSVWriter | pq.ParquetWriter | None = None
+        self.rows = 0
+
+    def write(self, frame: pd.DataFrame) -> None:
+        """Append the rows of ``frame`` (the header is written with the first part)."""
+        if self.suffix == ".jsonl":
+            _write_jsonl(frame, self.path, append=self.rows > 0)
+        else:
+            table = _arrow_table(frame, neutralise=self.suffix == ".csv")
+            if self.schema is None:
+                self.schema = table.schema
+                self._writer = pa_csv.CSVWriter(
+                    str(self.path), table.schema, write_options=pa_csv.WriteOptions(
+                        include_header=True, quoting_style="needed")) \
+                    if self.suffix == ".csv" else pq.ParquetWriter(str(self.path), table.schema)
+            elif table.schema != self.schema:
+                table = _conform(table, self.schema)
+            self._writer.write_table(table)  # type: ignore[union-attr]
+        self.rows += len(frame)
+
+    def close(self) -> None:
+        if self._writer is not None:
+            self._writer.close()
+            self._writer = None
+        elif self.rows == 0 and self.suffix != ".jsonl":
+            self.write(pd.DataFrame())
+
+
+def _conform(table: pa.Table, schema: pa.Schema) -> pa.Table:
+    """A later part cast to the first part's types (a column of nulls, an integer column
+    that met a float), so that every part of the file has one schema."""
+    if table.schema.names != schema.names:
+        raise OutputError("internal error: parts of one output table differ in their columns")
+    try:
+        return table.cast(schema)
+    except (pa.ArrowInvalid, pa.ArrowNotImplementedError) as exc:
+        raise OutputError(f"cannot append a part of the results: {exc}") from exc
+
+
+@contextlib.contextmanager
+def open_table(output: Path, *, force: bool = False) -> Iterator[TableSink]:
+    """A :class:`TableSink` for ``output`` (kind by extension), written atomically: on an
+    error nothing is left under the output's name."""
+    output = Path(output)
+    suffix = _table_suffix(output)
     check_output(output, force=force)
     with atomic_output(output) as tmp:
-        if suffix == ".csv":
-            _write_csv(frame, tmp)
-        elif suffix == ".parquet":
-            pq.write_table(_arrow_table(frame), tmp)
-        else:
-            _write_jsonl(frame, tmp)
+        sink = TableSink(tmp, suffix)
+        try:
+            yield sink
+        finally:
+            sink.close()
 
 
 _TRIGGER_REGEX = "^[=+@\\t\\r-]"
@@ -145,7 +206,16 @@ def _text_array(series: pd.Series) -> tuple[pa.Array, pa.Array | None]:
     """A column of text (or of mixed objects, written with ``str``) as an Arrow string array.
 
     For a mixed column, also which cells were text (a number there is not neutralised).
+    Text and categorical columns of text are converted by Arrow, without a Python object per
+    cell.
     """
+    if isinstance(series.dtype, pd.StringDtype) and series.dtype.storage == "pyarrow":
+        return pa.chunked_array(pa.array(series.array)).combine_chunks().cast(pa.string()), None
+    if isinstance(series.dtype, pd.CategoricalDtype) and \
+            pd.api.types.infer_dtype(series.cat.categories, skipna=True) in ("string", "empty"):
+        categories = pa.array(series.cat.categories.astype(object), type=pa.string())
+        codes = series.cat.codes.to_numpy()
+        return categories.take(pa.array(codes, mask=codes < 0)), None
     values = series.tolist()
     kind = pd.api.types.infer_dtype(values, skipna=True)
     if kind in ("string", "empty"):
@@ -175,13 +245,6 @@ def _missing(value: object) -> bool:
     if value is None or value is pd.NA or value is pd.NaT:
         return True
     return isinstance(value, float) and math.isnan(value)
-
-
-def _write_csv(frame: pd.DataFrame, path: Path) -> None:
-    # pyarrow's writer: NaN/None as empty cells, shortest round-trip float text, RFC 4180 quoting
-    table = _arrow_table(frame, neutralise=True)
-    options = pa_csv.WriteOptions(include_header=True, quoting_style="needed")
-    pa_csv.write_csv(table, path, write_options=options)
 
 
 def _json_fragments(series: pd.Series) -> list[str]:
@@ -227,14 +290,14 @@ def _json_value(value: object) -> object:
     return str(value)
 
 
-def _write_jsonl(frame: pd.DataFrame, path: Path) -> None:
+def _write_jsonl(frame: pd.DataFrame, path: Path, *, append: bool = False) -> None:
     """One JSON object per line, keys in column order."""
     dumps = json.JSONEncoder(ensure_ascii=False).encode
     columns = [
         [f"{dumps(str(name))}:{frag}" for frag in _json_fragments(frame[name])]
         for name in frame.columns
     ]
-    with open(path, "w", encoding="utf-8", newline="\n") as fh:
+    with open(path, "a" if append else "w", encoding="utf-8", newline="\n") as fh:
         if not columns:
             fh.write("{}\n" * len(frame))
             return
