@@ -4,10 +4,11 @@ What ``qc`` does between reading and writing (header matching, parsing and valid
 the thermal correction, the budget, the verdicts, the result columns) is left out, so the
 ratio ``qc time / floor time`` says how much the program adds to I/O it cannot avoid.
 
-* CSV read: bytes → UTF-8 text → rows with the standard-library ``csv`` module, as
-  ``qc.io.csvfile`` reads. ``pyarrow.csv`` on the same file is timed too, as the figure a
-  columnar reader would reach (reported, not used in the ratio).
+* CSV read: ``pyarrow.csv`` with every column as text, as ``qc.io.csvfile`` splits the file.
+  The standard-library ``csv`` module on the same file is timed too (reported, not used in
+  the ratio).
 * XLSX read: ``python-calamine`` ``to_python`` of the same sheet, as ``qc.io.xlsx`` reads.
+* Parquet read: ``pyarrow.parquet.read_table`` of the same file, as ``qc.io.parquetfile``.
 * CSV/Parquet write: the output ``qc`` wrote is loaded untimed into an Arrow table (same cells,
   same types), then written with the writer ``qc.io.writers`` uses (``pyarrow.csv`` with
   ``quoting_style="needed"``, ``pyarrow.parquet`` with its defaults).
@@ -64,6 +65,12 @@ def read_floor(path: Path) -> Timing:
                 path, read_options=pa_csv.ReadOptions(autogenerate_column_names=True),
                 convert_options=pa_csv.ConvertOptions(
                     column_types=_all_text(path, pa.string())))
+    elif path.suffix.lower() == ".parquet":
+        import pyarrow.dataset  # noqa: F401  (read_table imports it on first use: not timed)
+        import pyarrow.parquet as pq
+
+        with _timed(t):
+            rows = pq.read_table(path)
     else:
         import python_calamine as pc
 

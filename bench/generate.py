@@ -23,7 +23,8 @@ import numpy as np
 import pyarrow as pa
 import pyarrow.csv as pa_csv
 
-__all__ = ["HEADERS", "XLSX_MAX_ROWS", "columns", "ensure_inputs", "write_csv", "write_xlsx"]
+__all__ = ["HEADERS", "XLSX_MAX_ROWS", "columns", "ensure_inputs", "write_csv", "write_parquet",
+           "write_xlsx"]
 
 OUT = Path(__file__).resolve().parent / "out" / "inputs"
 #: Largest XLSX input generated (a 1 M-row sheet would sit at Excel's row limit).
@@ -149,6 +150,23 @@ def write_csv(rows: int, path: Path, seed: int = SEED) -> Path:
     return path
 
 
+def write_parquet(rows: int, path: Path, seed: int = SEED) -> Path:
+    """The same sheet as a Parquet table, as a gauge's export might hold it: number columns
+    as numbers (nulls where empty), text columns (including readings with bad text) as text."""
+    import pyarrow.parquet as pq
+
+    arrays = []
+    cols = columns(rows, seed)
+    for values in cols.values():
+        if values.dtype.kind == "f":
+            arrays.append(pa.array(values, type=pa.float64(), from_pandas=True))
+        else:
+            arrays.append(pa.array([None if v is None or v != v else str(v) for v in values],
+                                   type=pa.string()))
+    pq.write_table(pa.Table.from_arrays(arrays, names=list(cols)), path)
+    return path
+
+
 def write_xlsx(rows: int, path: Path, seed: int = SEED) -> Path:
     """A one-sheet workbook ``Inspection`` of ``rows`` rows; numbers as number cells."""
     import xlsxwriter
@@ -180,6 +198,10 @@ def ensure_inputs(sizes: list[int], out: Path = OUT, *, xlsx: bool = True) -> di
         if not csv_path.exists():
             write_csv(rows, csv_path)
         made[f"csv-{rows}"] = csv_path
+        parquet_path = out / f"sheet_{rows}.parquet"
+        if not parquet_path.exists():
+            write_parquet(rows, parquet_path)
+        made[f"parquet-{rows}"] = parquet_path
         if xlsx and rows <= XLSX_MAX_ROWS:
             xlsx_path = out / f"sheet_{rows}.xlsx"
             if not xlsx_path.exists():

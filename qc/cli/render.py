@@ -100,7 +100,8 @@ def rows_progress(show: bool, name: str) -> Iterator[Callable[[float, int], None
                   TextColumn("{task.fields[rows]:,} rows"), TimeElapsedColumn(),
                   console=err_console, transient=True) as bar:
         task = bar.add_task(name, total=1.0, rows=0)
-        yield lambda fraction, rows: bar.update(task, completed=fraction, rows=rows)
+        yield lambda fraction, rows: bar.update(task, completed=fraction, rows=rows,
+                                                refresh=True)
 
 
 def check(table) -> None:

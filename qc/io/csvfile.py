@@ -18,8 +18,9 @@ import codecs
 import csv
 import io
 import re
+import threading
 from collections import Counter
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -269,11 +270,13 @@ class DelimitedStream:
     _source: object
 
     def fraction(self) -> float:
-        """Share of the file's bytes read so far (pyarrow reads a little ahead)."""
+        """Share of the file's bytes handed out so far, about (pyarrow reads a little ahead,
+        up to the pacing distance)."""
         try:
-            return min(1.0, self._source.tell() / max(self.size, 1))  # type: ignore[attr-defined]
+            done = self._source.tell() - self._source.ahead  # type: ignore[attr-defined]
         except (OSError, ValueError):
             return 1.0
+        return min(1.0, max(0.0, done / max(self.size, 1)))
 
 
 def _plain_utf8(path: Path) -> bool:
@@ -298,7 +301,7 @@ def _plain_utf8(path: Path) -> bool:
 
 
 def stream_delimited(path: Path, *, delimiter: str | None = None, decimal: str | None = None,
-                     chunk_rows: int = 200_000) -> DelimitedStream:
+                     chunk_rows: int = 50_000) -> DelimitedStream:
     """The file in chunks of about ``chunk_rows`` rows, the same cells as
     :func:`read_delimited` would give, for files pyarrow splits the same way.
 
@@ -330,8 +333,7 @@ def stream_delimited(path: Path, *, delimiter: str | None = None, decimal: str |
         raise NotStreamable(path.name)
     head, offset, width = lead
     cut = bom + len(text[:offset].encode("utf-8"))
-    source = pa.OSFile(str(path), "r")
-    source.seek(cut)
+    source = _PacedFile(path, cut, ahead=4 * _BLOCK_BYTES)
     read, parse, convert = _options(delimiter, width, block_size=_BLOCK_BYTES)
     try:
         reader = pa_csv.open_csv(source, read_options=read, parse_options=parse,
@@ -345,7 +347,7 @@ def stream_delimited(path: Path, *, delimiter: str | None = None, decimal: str |
         first_row, dec = 0, decimal
         try:
             first = max(chunk_rows, FIRST_CHUNK_ROWS)
-            for batches in _batched_rows(reader, chunk_rows, first):
+            for batches in _batched_rows(reader, chunk_rows, first, source.allow):
                 cols = _text_columns([pa.concat_arrays([b.column(j) for b in batches])
                                       for j in range(width)])
                 if cols is None:
@@ -374,12 +376,13 @@ def stream_delimited(path: Path, *, delimiter: str | None = None, decimal: str |
 
 
 def _batched_rows(reader: pa_csv.CSVStreamingReader, rows: int, first: int,
-                  ) -> Iterator[list[pa.RecordBatch]]:
+                  taken: Callable[[], None]) -> Iterator[list[pa.RecordBatch]]:
     """Record batches regrouped (sliced, no copy) into groups of ``rows`` rows, the first of
-    ``first`` rows; the last group may be shorter."""
+    ``first`` rows; the last group may be shorter. ``taken`` is called after each batch."""
     group: list[pa.RecordBatch] = []
     n, want = 0, first
     for batch in reader:
+        taken()
         while batch.num_rows:
             take = min(want - n, batch.num_rows)
             group.append(batch.slice(0, take))
@@ -390,6 +393,48 @@ def _batched_rows(reader: pa_csv.CSVStreamingReader, rows: int, first: int,
                 group, n, want = [], 0, rows
     if group:
         yield group
+
+
+class _PacedFile(io.RawIOBase):
+    """The file from byte ``start`` on, read by pyarrow's background threads no further than
+    ``ahead`` bytes past the point the consumer has reached (:meth:`allow`), so a large file is
+    not buffered whole. A read that has waited ``_WAIT_S`` goes on anyway: pacing can slow the
+    reader but never stop it."""
+
+    _WAIT_S = 2.0
+
+    def __init__(self, path: Path, start: int, ahead: int) -> None:
+        super().__init__()
+        self._fh = path.open("rb")
+        self._fh.seek(start)
+        self.ahead = ahead
+        self._limit = start + ahead
+        self._turn = threading.Condition()
+
+    def readable(self) -> bool:
+        return True
+
+    def readinto(self, buffer) -> int:  # type: ignore[override]
+        with self._turn:
+            if self._fh.tell() >= self._limit:
+                self._turn.wait(self._WAIT_S)
+        return self._fh.readinto(buffer)
+
+    def allow(self) -> None:
+        """The consumer took a batch: the reader may run ``ahead`` bytes past where it is."""
+        with self._turn:
+            self._limit = self._fh.tell() + self.ahead
+            self._turn.notify_all()
+
+    def tell(self) -> int:
+        return self._fh.tell()
+
+    def close(self) -> None:
+        with self._turn:
+            self._limit = 1 << 62
+            self._turn.notify_all()
+        self._fh.close()
+        super().close()
 
 
 def _chunk_cells(head: list[list[str]], cols: list[tuple[np.ndarray, np.ndarray]], wide: int,

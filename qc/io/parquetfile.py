@@ -85,7 +85,7 @@ class ParquetStream:
         return min(1.0, self.done[0] / max(self.rows, 1))
 
 
-def stream_parquet(path: Path, *, chunk_rows: int = 200_000) -> ParquetStream:
+def stream_parquet(path: Path, *, chunk_rows: int = 50_000) -> ParquetStream:
     """The file in chunks of ``chunk_rows`` records: the first chunk's grid starts with the
     header row, as :func:`read_parquet_grid`; later chunks hold data rows only."""
     import pyarrow as pa

@@ -234,7 +234,7 @@ class ChunkedInspection:
 
 def read_inspection_chunks(path: Path | str, *, layout: Layout | Path | str | None = None,
                            register: Path | str | None = None, limits: Limits | None = None,
-                           chunk_rows: int = 200_000) -> ChunkedInspection:
+                           chunk_rows: int = 50_000) -> ChunkedInspection:
     """Read a CSV, TSV or Parquet file in chunks, so memory stays bounded on large files.
 
     Each chunk is validated as :func:`read_inspection` validates the whole file, with the

@@ -193,8 +193,9 @@ def test_progress_reaches_the_end(tmp_path: Path) -> None:
     seen: list[tuple[float, int]] = []
     evaluate_to_table(src, tmp_path / "out.csv", chunk_rows=100,
                       progress=lambda f, n: seen.append((f, n)))
-    # the header row is the first row of the body: 2099 data rows in the first chunk
-    assert [n for _, n in seen] == [2099, 2199, 2299, 2300]
+    # the header row is the first row of the body: 2099 data rows in the first chunk; the
+    # last call says the file is done
+    assert [n for _, n in seen] == [2099, 2199, 2299, 2300, 2300]
     fractions = [f for f, _ in seen]
     assert fractions == sorted(fractions) and fractions[-1] == 1.0
 
@@ -209,3 +210,17 @@ def test_existing_output_and_the_input_itself_are_refused(tmp_path: Path) -> Non
     with pytest.raises(OutputError, match="input"):
         evaluate_to_table(src, src, force=True)
     assert src.read_text(encoding="utf-8").startswith("Part,")
+
+
+def test_small_reading_blocks_pace_the_reader_without_changing_cells(
+        tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    # 4 kB blocks: the background reader is held to 16 kB ahead of the chunks handed out
+    monkeypatch.setattr("qc.io.csvfile._BLOCK_BYTES", 4096)
+    src = _csv(tmp_path / "sheet.csv", _rows(3 * N), title=True, blank_every=7)
+    stream = stream_delimited(src, chunk_rows=300)
+    fractions = [stream.fraction() for _grid in stream.chunks]
+    # the first chunk (2100 rows) is about a third of the file: the reader has not run to
+    # the end of the file, and it moves on chunk by chunk
+    assert fractions[0] < 0.5
+    assert fractions == sorted(fractions) and len(set(fractions)) >= 5
+    assert _same(src, tmp_path, ".csv", 300).streamed
