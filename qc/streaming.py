@@ -2,11 +2,14 @@
 
 A file of a million rows is read a chunk of rows at a time (:func:`qc.io.reader.
 read_inspection_chunks`), each chunk is evaluated as a table of its own (every result of a row
-depends on that row alone) and appended to the flat output (CSV, Parquet or JSON Lines) while
-the next chunk is read, so memory stays bounded by the chunk size, not the file. The output
-holds the same rows and cells as a whole-file run. What describes the file as a whole (the
-per-characteristic statistics and temperature bands) is in the workbook output and the report,
-not in a flat table, and is not computed here.
+depends on that row alone) and appended to the flat output (CSV, Parquet or JSON Lines), so
+memory stays bounded by the chunk size, not the file. The output holds the same rows and cells
+as a whole-file run. What describes the file as a whole (the per-characteristic statistics and
+temperature bands) is in the workbook output and the report, not in a flat table, and is not
+computed here.
+
+A writer thread writes one chunk while the next is read and evaluated (pyarrow writes mostly
+outside the GIL).
 
 Files that must be read whole (workbooks, wide sheets, text that pyarrow would split otherwise
 than the csv module) go through :func:`qc.pipeline.evaluate_file` instead, with the same
@@ -26,10 +29,10 @@ import pandas as pd
 from qc.core.decision import VERDICT_NAMES
 from qc.errors import OutputError
 from qc.io.guard import Limits
-from qc.io.reader import NotStreamable, read_inspection_chunks
-from qc.io.writers import TABLE_SUFFIXES, check_output, open_table
+from qc.io.reader import ChunkedInspection, InspectionTable, NotStreamable, read_inspection_chunks
+from qc.io.writers import TABLE_SUFFIXES, TableSink, check_output, open_table
 from qc.models import Layout
-from qc.pipeline import Evaluation, Settings, evaluate_file, evaluate_table
+from qc.pipeline import Settings, evaluate_file, evaluate_table
 
 __all__ = ["CHUNK_ROWS", "StreamedRun", "evaluate_to_table", "streamable"]
 
@@ -41,6 +44,20 @@ ACTIONS_KEPT = 50
 
 #: Called after each chunk with the share of the input read so far and the rows written.
 Progress = Callable[[float, int], None]
+
+_STAGES = ("read", "parse", "compute", "write")
+
+
+@dataclass
+class ChunkSummary:
+    """What one evaluated chunk tells the summary of the run."""
+
+    rows: int
+    counts: dict[str, int]
+    actions: pd.DataFrame
+    n_actions: int
+    notes: list[str]
+    timings: dict[str, float]
 
 
 @dataclass
@@ -57,23 +74,25 @@ class StreamedRun:
     notes: list[str] = field(default_factory=list)
     chunks: int = 0
     streamed: bool = True
-    #: wall-clock seconds per stage: read, parse (and validate), compute, write
-    timings: dict[str, float] = field(
-        default_factory=lambda: dict.fromkeys(("read", "parse", "compute", "write"), 0.0))
+    #: seconds per stage: read, parse (and validate), compute, write (the writer thread
+    #: overlaps the others, so they can add up to more than the run took)
+    timings: dict[str, float] = field(default_factory=lambda: dict.fromkeys(_STAGES, 0.0))
 
-    def add(self, ev: Evaluation) -> None:
+    def add(self, part: ChunkSummary) -> None:
         """Fold one evaluated chunk (or the whole file) into the summary."""
         self.chunks += 1
-        self.rows += len(ev.results)
-        for verdict, n in ev.counts.items():
+        self.rows += part.rows
+        for verdict, n in part.counts.items():
             self.counts[verdict] += n
-        self.n_actions += len(ev.actions)
-        if len(self.actions) < ACTIONS_KEPT and len(ev.actions):
-            self.actions = pd.concat([self.actions, ev.actions.head(ACTIONS_KEPT)],
+        self.n_actions += part.n_actions
+        if len(self.actions) < ACTIONS_KEPT and len(part.actions):
+            self.actions = pd.concat([self.actions, part.actions],
                                      ignore_index=True).head(ACTIONS_KEPT)
-        for note in (*ev.table.warnings, *ev.notes):
+        for note in part.notes:
             if note not in self.notes:
                 self.notes.append(note)
+        for k, v in part.timings.items():
+            self.timings[k] += v
 
 
 def streamable(path: Path, output: Path) -> bool:
@@ -98,23 +117,42 @@ def evaluate_to_table(path: Path | str, output: Path | str, *, layout: Layout | 
         raise OutputError(f"{output.name}: a run in chunks writes .csv, .parquet or .jsonl")
     check_output(output, force=force, inputs=[path])
     try:
-        return _in_chunks(path, output, layout, register, settings, limits, force,
-                          chunk_rows, progress)
+        t = time.perf_counter()
+        chunked = read_inspection_chunks(path, layout=layout, register=register,
+                                         limits=limits, chunk_rows=chunk_rows)
+        run = StreamedRun(file=path.name, output=output)
+        run.timings["parse"] += time.perf_counter() - t
+        with open_table(output, force=force) as sink:
+            _chunk_by_chunk(chunked, sink, settings, path, run, progress)
+        # reading and parsing interleave in this process: the reader measured its share
+        run.timings["read"] += chunked.read_seconds
+        run.timings["parse"] -= chunked.read_seconds
     except NotStreamable:
         return _whole(path, output, layout, register, settings, limits, force, progress)
+    if progress is not None:
+        progress(1.0, run.rows)
+    return run
 
 
-def _in_chunks(path: Path, output: Path, layout: Layout | None, register: Path | None,
-               settings: Settings, limits: Limits | None, force: bool, chunk_rows: int,
-               progress: Progress | None) -> StreamedRun:
-    run = StreamedRun(file=path.name, output=output)
-    clock = run.timings
+def _evaluated(table: InspectionTable, settings: Settings, source: Path,
+               ) -> tuple[pd.DataFrame, ChunkSummary]:
+    """One chunk's flat output rows and its summary."""
     t = time.perf_counter()
-    chunked = read_inspection_chunks(path, layout=layout, register=register, limits=limits,
-                                     chunk_rows=chunk_rows)
-    clock["parse"] += time.perf_counter() - t
-    # one writer thread: a chunk is written (pyarrow, outside the GIL) while the next is read
-    with open_table(output, force=force) as sink, ThreadPoolExecutor(max_workers=1) as pool:
+    ev = evaluate_table(table, settings, summaries=False)
+    ev.source = source
+    flat = ev.flat()
+    summary = ChunkSummary(rows=len(ev.results), counts=ev.counts,
+                           actions=ev.actions.head(ACTIONS_KEPT), n_actions=len(ev.actions),
+                           notes=[*table.warnings, *ev.notes],
+                           timings={"compute": time.perf_counter() - t})
+    return flat, summary
+
+
+def _chunk_by_chunk(chunked: ChunkedInspection, sink: TableSink, settings: Settings,
+                    path: Path, run: StreamedRun, progress: Progress | None) -> None:
+    """Every chunk read, evaluated and handed to one writer thread, which writes it (pyarrow,
+    mostly outside the GIL) while the next is read and evaluated."""
+    with ThreadPoolExecutor(max_workers=1) as pool:
         pending: Future[float] | None = None
 
         def timed_write(frame: pd.DataFrame) -> float:
@@ -128,27 +166,16 @@ def _in_chunks(path: Path, output: Path, layout: Layout | None, register: Path |
             table = next(tables, None)
             if table is None:
                 break
-            t1 = time.perf_counter()
-            ev = evaluate_table(table, settings, summaries=False)
-            ev.source = path
-            flat = ev.flat()
-            run.add(ev)
-            t2 = time.perf_counter()
+            run.timings["parse"] += time.perf_counter() - t
+            flat, summary = _evaluated(table, settings, path)
+            run.add(summary)
             if pending is not None:
-                clock["write"] += pending.result()
+                run.timings["write"] += pending.result()
             pending = pool.submit(timed_write, flat)
-            clock["compute"] += t2 - t1
-            clock["parse"] += t1 - t
             if progress is not None:
                 progress(chunked.fraction(), run.rows)
         if pending is not None:
-            clock["write"] += pending.result()
-    if progress is not None:
-        progress(1.0, run.rows)
-    # reading and parsing interleave; the reader measured its share of the two
-    clock["read"] = chunked.read_seconds
-    clock["parse"] -= chunked.read_seconds
-    return run
+            run.timings["write"] += pending.result()
 
 
 def _whole(path: Path, output: Path, layout: Layout | None, register: Path | None,
@@ -162,8 +189,10 @@ def _whole(path: Path, output: Path, layout: Layout | None, register: Path | Non
     ev = evaluate_file(path, layout=layout, register=register, settings=settings, limits=limits)
     t1 = time.perf_counter()
     write_results(ev, output, force=force)
-    run.timings.update(parse=t1 - t, write=time.perf_counter() - t1)
-    run.add(ev)
+    run.add(ChunkSummary(rows=len(ev.results), counts=ev.counts,
+                         actions=ev.actions.head(ACTIONS_KEPT), n_actions=len(ev.actions),
+                         notes=[*ev.table.warnings, *ev.notes],
+                         timings={"parse": t1 - t, "write": time.perf_counter() - t1}))
     if progress is not None:
         progress(1.0, run.rows)
     return run

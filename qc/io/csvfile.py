@@ -32,7 +32,7 @@ import pyarrow.csv as pa_csv
 from qc.errors import FileReadError
 from qc.io.grid import Grid
 
-__all__ = ["DelimitedStream", "NotStreamable", "read_delimited", "sniff_decimal",
+__all__ = ["DelimitedStream", "NotStreamable", "TextChunk", "read_delimited", "sniff_decimal",
            "sniff_delimiter", "stream_delimited"]
 
 _CANDIDATES = (";", ",", "\t", "|")
@@ -262,10 +262,10 @@ class NotStreamable(Exception):
 
 @dataclass
 class DelimitedStream:
-    """A delimited file read in chunks of rows, each chunk a :class:`Grid` whose
-    ``first_row`` says where it starts in the file; ``fraction`` tells how far reading is."""
+    """A delimited file read in chunks of rows (:class:`TextChunk`, each made into a
+    :class:`Grid` by its ``grid()``); ``fraction`` tells how far reading is."""
 
-    chunks: Iterator[Grid]
+    chunks: Iterator[TextChunk]
     size: int
     _source: object
 
@@ -343,36 +343,63 @@ def stream_delimited(path: Path, *, delimiter: str | None = None, decimal: str |
         raise NotStreamable(path.name) from exc
     wide = max(width, *(len(r) for r in head)) if head else width
 
-    def chunks() -> Iterator[Grid]:
-        first_row, dec = 0, decimal
+    def chunks() -> Iterator[TextChunk]:
+        first_row = 0
         try:
             first = max(chunk_rows, FIRST_CHUNK_ROWS)
             for batches in _batched_rows(reader, chunk_rows, first, source.allow):
-                cols = _text_columns([pa.concat_arrays([b.column(j) for b in batches])
-                                      for j in range(width)])
-                if cols is None:
-                    raise NotStreamable(path.name)
-                rows_above = head if first_row == 0 else []
-                cells, blank = _chunk_cells(rows_above, cols, wide)
-                chunk_notes: list[str] = []
-                if first_row == 0:
-                    chunk_notes = list(notes)
-                    if dec is None:
-                        fields = [f for row in cells[:SNIFF_ROWS].tolist() for f in row]
-                        dec, clear = sniff_decimal(fields, delimiter)
-                        word = "comma" if dec == "," else "point"
-                        how = "detected" if clear else "assumed; no decimal numbers found to tell"
-                        chunk_notes.append(f"{path.name}: decimal {word} ({how})")
-                yield Grid(file=path.name, sheet=None, cells=cells, decimal=dec,
-                           delimiter=delimiter, notes=chunk_notes, _blank=blank,
-                           first_row=first_row)
-                first_row += len(cells)
+                chunk = TextChunk(file=path.name, batches=batches,
+                                  head=head if first_row == 0 else [], wide=wide,
+                                  first_row=first_row, delimiter=delimiter,
+                                  decimal=decimal, notes=notes if first_row == 0 else [])
+                yield chunk
+                first_row += chunk.rows
         except (pa.ArrowException, ValueError, OverflowError) as exc:
             raise NotStreamable(path.name) from exc
         finally:
             source.close()
 
     return DelimitedStream(chunks=chunks(), size=size, _source=source)
+
+
+@dataclass
+class TextChunk:
+    """Rows of a delimited file as pyarrow split them, not yet cells: small to send to another
+    process, where :meth:`grid` makes the cells. The first chunk (``first_row`` 0) also holds
+    the rows above the body and the file's notes, and finds the decimal mark if not given."""
+
+    file: str
+    batches: list[pa.RecordBatch]
+    head: list[list[str]]
+    wide: int
+    first_row: int
+    delimiter: str
+    decimal: str | None
+    notes: list[str]
+
+    @property
+    def rows(self) -> int:
+        """Rows of the file in this chunk."""
+        return len(self.head) + sum(b.num_rows for b in self.batches)
+
+    def grid(self) -> Grid:
+        """The chunk's cells, as :func:`read_delimited` gives those rows."""
+        width = self.batches[0].num_columns
+        cols = _text_columns([pa.concat_arrays([b.column(j) for b in self.batches])
+                              for j in range(width)])
+        if cols is None:
+            raise NotStreamable(self.file)
+        cells, blank = _chunk_cells(self.head, cols, self.wide)
+        notes, dec = list(self.notes), self.decimal
+        if self.first_row == 0 and dec is None:
+            fields = [f for row in cells[:SNIFF_ROWS].tolist() for f in row]
+            dec, clear = sniff_decimal(fields, self.delimiter)
+            word = "comma" if dec == "," else "point"
+            how = "detected" if clear else "assumed; no decimal numbers found to tell"
+            notes.append(f"{self.file}: decimal {word} ({how})")
+        return Grid(file=self.file, sheet=None, cells=cells, decimal=dec,
+                    delimiter=self.delimiter, notes=notes, _blank=blank,
+                    first_row=self.first_row)
 
 
 def _batched_rows(reader: pa_csv.CSVStreamingReader, rows: int, first: int,

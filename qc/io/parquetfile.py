@@ -17,7 +17,7 @@ import numpy as np
 from qc.errors import FileReadError
 from qc.io.grid import Grid
 
-__all__ = ["ParquetStream", "read_parquet_grid", "stream_parquet"]
+__all__ = ["ParquetChunk", "ParquetStream", "read_parquet_grid", "stream_parquet"]
 
 
 def _open(path: Path):
@@ -73,10 +73,32 @@ def read_parquet_grid(path: Path) -> Grid:
 
 
 @dataclass
+class ParquetChunk:
+    """Records of a Parquet file, not yet cells: small to send to another process, where
+    :meth:`grid` makes the cells (the first chunk with the header row on top)."""
+
+    file: str
+    batch: object  # a pyarrow.RecordBatch
+    header: list[str] | None
+    first_row: int
+
+    @property
+    def rows(self) -> int:
+        """Rows of the grid this chunk makes."""
+        return self.batch.num_rows + (self.header is not None)  # type: ignore[attr-defined]
+
+    def grid(self) -> Grid:
+        """The chunk's cells, as :func:`read_parquet_grid` gives those rows."""
+        b = self.batch
+        return Grid(file=self.file, sheet=None, first_row=self.first_row,
+                    cells=_cells(b.columns, b.num_rows, self.header))  # type: ignore[attr-defined]
+
+
+@dataclass
 class ParquetStream:
     """A Parquet file read in chunks of rows; ``fraction`` tells how far reading is."""
 
-    chunks: Iterator[Grid]
+    chunks: Iterator[ParquetChunk]
     rows: int
     done: list[int]
 
@@ -94,19 +116,22 @@ def stream_parquet(path: Path, *, chunk_rows: int = 50_000) -> ParquetStream:
     names = pf.schema_arrow.names
     done = [0]
 
-    def chunks() -> Iterator[Grid]:
+    def chunks() -> Iterator[ParquetChunk]:
         first_row = 0
         try:
-            for batch in pf.iter_batches(batch_size=chunk_rows):
-                header = names if first_row == 0 else None
-                cells = _cells(batch.columns, batch.num_rows, header)
+            batches = pf.iter_batches(batch_size=chunk_rows)
+            batch = next(batches, None)
+            if batch is None:  # no records: the header alone, as a whole read gives
+                batch = pa.RecordBatch.from_pylist([], schema=pf.schema_arrow)
+            while batch is not None:
+                chunk = ParquetChunk(path.name, batch, names if first_row == 0 else None,
+                                     first_row)
                 done[0] += batch.num_rows
-                yield Grid(file=path.name, sheet=None, cells=cells, first_row=first_row)
-                first_row += len(cells)
+                yield chunk
+                first_row += chunk.rows
+                batch = next(batches, None)
         except (OSError, pa.ArrowException) as exc:
             raise FileReadError(
                 f"{path.name}: cannot be read as a Parquet file ({exc})") from exc
-        if first_row == 0:  # no records: the header alone, as a whole read gives
-            yield Grid(file=path.name, sheet=None, cells=np.array([names], dtype=object))
 
     return ParquetStream(chunks=chunks(), rows=pf.metadata.num_rows, done=done)

@@ -18,20 +18,27 @@ import pandas as pd
 
 from qc.errors import FileReadError
 from qc.io.assemble import assemble
-from qc.io.csvfile import NotStreamable, read_delimited, stream_delimited
+from qc.io.csvfile import (
+    DelimitedStream,
+    NotStreamable,
+    TextChunk,
+    read_delimited,
+    stream_delimited,
+)
 from qc.io.grid import Grid, column_letter
 from qc.io.guard import Limits, guard_file
 from qc.io.headers import HeaderScan, find_header_row, suggest_field
 from qc.io.layout import load_layout
-from qc.io.parquetfile import read_parquet_grid, stream_parquet
+from qc.io.parquetfile import ParquetChunk, ParquetStream, read_parquet_grid, stream_parquet
 from qc.io.raw import RawTable
 from qc.io.register import REGISTER_SHEETS, Register, read_register, register_from_grid
 from qc.io.wide import WideHeader, find_wide_header, wide_to_raw
 from qc.io.xlsx import read_workbook_sheet
 from qc.models import InspectionRecord, Layout, RowError
 
-__all__ = ["ChunkedInspection", "ColumnRef", "InspectionTable", "NotStreamable", "check",
-           "read_grid", "read_inspection", "read_inspection_chunks", "record_of"]
+__all__ = ["ChunkContext", "ChunkedInspection", "ColumnRef", "InspectionTable", "NotStreamable",
+           "check", "chunk_table", "read_grid", "read_inspection", "read_inspection_chunks",
+           "record_of", "table_of_grid"]
 
 WORKBOOK_SUFFIXES = (".xlsx", ".xlsm", ".ods")
 TEXT_SUFFIXES = (".csv", ".tsv", ".txt")
@@ -204,32 +211,70 @@ def _last_column(grid: Grid) -> str:
     return column_letter(int(used.max()) if len(used) else 0)
 
 
-def _next_table(grid: Grid, first: InspectionTable, scan: HeaderScan) -> InspectionTable:
-    """The table of a later chunk: the first chunk's header, layout, register and decimal."""
-    raw, data_rows = _long_raw(grid, scan, below_header=False)
+@dataclass(frozen=True)
+class ChunkContext:
+    """What the later chunks of a file read in parts take from the first: its header,
+    layout, register and decimal mark (small, and picklable for a worker process)."""
+
+    file: str
+    layout: Layout
+    columns: dict[str, ColumnRef]
+    register: Register | None
+    decimal: str
+    delimiter: str | None
+    header_row: int
+    scan: HeaderScan
+
+
+def chunk_table(chunk: TextChunk | ParquetChunk, context: ChunkContext) -> InspectionTable:
+    """The validated table of a later chunk (in this process or another one)."""
+    return table_of_grid(chunk.grid(), context)
+
+
+def table_of_grid(grid: Grid, ctx: ChunkContext) -> InspectionTable:
+    """The validated table of a later chunk's cells, with the first chunk's context."""
+    raw, data_rows = _long_raw(grid, ctx.scan, below_header=False)
     warnings: list[str] = []
-    decimal = first.decimal_mark
-    frame, errors = assemble(raw, first.layout, decimal=decimal, register=first.register,
+    frame, errors = assemble(raw, ctx.layout, decimal=ctx.decimal, register=ctx.register,
                              notes=warnings)
     return InspectionTable(
-        frame=frame, columns=first.columns, errors=errors, warnings=warnings,
-        layout=first.layout, header_row=first.header_row,
+        frame=frame, columns=ctx.columns, errors=errors, warnings=warnings,
+        layout=ctx.layout, header_row=ctx.header_row,
         data_rows=(np.asarray(data_rows, dtype=np.int64) + 1).tolist(), sheet=None,
-        last_column=_last_column(grid), file=first.file, kind="long", register=first.register,
-        delimiter=first.delimiter, decimal_mark=decimal,
+        last_column=_last_column(grid), file=ctx.file, kind="long", register=ctx.register,
+        delimiter=ctx.delimiter, decimal_mark=ctx.decimal,
     )
 
 
 @dataclass
 class ChunkedInspection:
-    """An inspection file read and validated in chunks of rows: ``tables`` yields one
-    :class:`InspectionTable` per chunk (row numbers count from the file's top, frame
-    positions from the chunk's); ``fraction`` tells how much of the file has been read."""
+    """An inspection file read and validated in chunks of rows.
 
-    tables: Iterator[InspectionTable]
+    ``first`` is the first chunk's table; ``chunks`` yields the later chunks not yet made
+    into cells, for :func:`chunk_table` with ``context`` here or in a worker process;
+    ``tables`` does both in this process (row numbers count from the file's top, frame
+    positions from the chunk's). ``fraction`` tells how much of the file has been read.
+    """
+
+    first: InspectionTable
+    context: ChunkContext
+    chunks: Iterator[TextChunk | ParquetChunk]
     fraction: Callable[[], float]
     #: wall-clock seconds spent so far reading cells (the rest is parsing and validating)
     read_seconds: float = 0.0
+
+    @property
+    def tables(self) -> Iterator[InspectionTable]:
+        """Every chunk's table, the first one first, validated in this process."""
+        yield self.first
+        while True:
+            t = time.perf_counter()
+            chunk = next(self.chunks, None)
+            if chunk is None:
+                return
+            grid = chunk.grid()
+            self.read_seconds += time.perf_counter() - t
+            yield table_of_grid(grid, self.context)
 
 
 def read_inspection_chunks(path: Path | str, *, layout: Layout | Path | str | None = None,
@@ -253,33 +298,26 @@ def read_inspection_chunks(path: Path | str, *, layout: Layout | Path | str | No
         raise FileReadError(f"{path.name}: no such file")
     decimal_opt = None if lay.decimal == "auto" else lay.decimal
     t = time.perf_counter()
+    stream: DelimitedStream | ParquetStream
     if suffix == ".parquet":
         stream = stream_parquet(path, chunk_rows=chunk_rows)
     else:
         guard_file(path, limits, delimiter=lay.delimiter)
         stream = stream_delimited(path, delimiter=lay.delimiter, decimal=decimal_opt,
                                   chunk_rows=chunk_rows)
-    grids = stream.chunks
-    first_grid = next(grids, None)
-    read_seconds = time.perf_counter() - t
-    if first_grid is None:
+    chunks = stream.chunks
+    first_chunk = next(chunks, None)
+    if first_chunk is None:
         raise NotStreamable(path.name)
+    first_grid = first_chunk.grid()
+    read_seconds = time.perf_counter() - t
     first, scan = _first_table(path, first_grid, lay, register, allow_wide=False)
     assert scan is not None  # a long sheet
-
-    def tables() -> Iterator[InspectionTable]:
-        yield first
-        while True:
-            t = time.perf_counter()
-            grid = next(grids, None)
-            chunked.read_seconds += time.perf_counter() - t
-            if grid is None:
-                return
-            yield _next_table(grid, first, scan)
-
-    chunked = ChunkedInspection(tables=tables(), fraction=stream.fraction,
-                                read_seconds=read_seconds)
-    return chunked
+    context = ChunkContext(file=first.file, layout=lay, columns=first.columns,
+                           register=first.register, decimal=first.decimal_mark or ".",
+                           delimiter=first.delimiter, header_row=first.header_row, scan=scan)
+    return ChunkedInspection(first=first, context=context, chunks=chunks,
+                             fraction=stream.fraction, read_seconds=read_seconds)
 
 
 def _register(path: Path, grid: Grid, lay: Layout, register: Path | str | None, decimal: str,

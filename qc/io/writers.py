@@ -134,25 +134,29 @@ class TableSink:
         """Append the rows of ``frame`` (the header is written with the first part)."""
         if self.suffix == ".jsonl":
             _write_jsonl(frame, self.path, append=self.rows > 0)
+            self.rows += len(frame)
         else:
-            table = _arrow_table(frame, neutralise=self.suffix == ".csv")
-            if self.schema is None:
-                self.schema = table.schema
-                self._writer = pa_csv.CSVWriter(
-                    str(self.path), table.schema, write_options=pa_csv.WriteOptions(
-                        include_header=True, quoting_style="needed")) \
-                    if self.suffix == ".csv" else pq.ParquetWriter(str(self.path), table.schema)
-            elif table.schema != self.schema:
-                table = _conform(table, self.schema)
-            self._writer.write_table(table)  # type: ignore[union-attr]
-        self.rows += len(frame)
+            self._write_arrow(_arrow_table(frame, neutralise=self.suffix == ".csv"))
+
+    def _write_arrow(self, table: pa.Table) -> None:
+        if self.schema is None:
+            self.schema = table.schema
+            self._writer = pa_csv.CSVWriter(
+                str(self.path), table.schema, write_options=pa_csv.WriteOptions(
+                    include_header=True, quoting_style="needed")) \
+                if self.suffix == ".csv" else pq.ParquetWriter(str(self.path), table.schema)
+        elif table.schema != self.schema:
+            table = _conform(table, self.schema)
+        self._writer.write_table(table)  # type: ignore[union-attr]
+        self.rows += table.num_rows
 
     def close(self) -> None:
+        """Finish the file (a table with no part at all is written as an empty table)."""
+        if self._writer is None and self.suffix != ".jsonl":
+            self.write(pd.DataFrame())
         if self._writer is not None:
             self._writer.close()
             self._writer = None
-        elif self.rows == 0 and self.suffix != ".jsonl":
-            self.write(pd.DataFrame())
 
 
 def _conform(table: pa.Table, schema: pa.Schema) -> pa.Table:
