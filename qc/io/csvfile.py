@@ -443,9 +443,11 @@ class _PacedFile(io.RawIOBase):
 
     def readinto(self, buffer) -> int:  # type: ignore[override]
         with self._turn:
-            if self._fh.tell() >= self._limit:
+            if not self._fh.closed and self._fh.tell() >= self._limit:
                 self._turn.wait(self._WAIT_S)
-        return self._fh.readinto(buffer)
+            if self._fh.closed:  # the consumer stopped early: the end, for the reader
+                return 0
+            return self._fh.readinto(buffer)
 
     def allow(self) -> None:
         """The consumer took a batch: the reader may run ``ahead`` bytes past where it is."""
@@ -454,13 +456,12 @@ class _PacedFile(io.RawIOBase):
             self._turn.notify_all()
 
     def tell(self) -> int:
-        return self._fh.tell()
+        return self._fh.tell()  # ValueError once closed
 
     def close(self) -> None:
         with self._turn:
-            self._limit = 1 << 62
+            self._fh.close()
             self._turn.notify_all()
-        self._fh.close()
         super().close()
 
 

@@ -9,6 +9,7 @@ invented.
 from __future__ import annotations
 
 import codecs
+import threading
 from pathlib import Path
 
 import pandas as pd
@@ -18,7 +19,7 @@ import pytest
 
 from qc.errors import OutputError
 from qc.export import write_results
-from qc.io.csvfile import FIRST_CHUNK_ROWS, NotStreamable, stream_delimited
+from qc.io.csvfile import FIRST_CHUNK_ROWS, NotStreamable, _PacedFile, stream_delimited
 from qc.io.reader import read_inspection_chunks
 from qc.pipeline import evaluate_file
 from qc.streaming import StreamedRun, evaluate_to_table
@@ -212,15 +213,33 @@ def test_existing_output_and_the_input_itself_are_refused(tmp_path: Path) -> Non
     assert src.read_text(encoding="utf-8").startswith("Part,")
 
 
-def test_small_reading_blocks_pace_the_reader_without_changing_cells(
+def test_small_reading_blocks_give_the_same_cells(
         tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
-    # 4 kB blocks: the background reader is held to 16 kB ahead of the chunks handed out
+    # 4 kB blocks: many record batches per chunk, and the reader paced to 16 kB ahead
     monkeypatch.setattr("qc.io.csvfile._BLOCK_BYTES", 4096)
     src = _csv(tmp_path / "sheet.csv", _rows(3 * N), title=True, blank_every=7)
     stream = stream_delimited(src, chunk_rows=300)
     fractions = [stream.fraction() for _grid in stream.chunks]
-    # the first chunk (2100 rows) is about a third of the file: the reader has not run to
-    # the end of the file, and it moves on chunk by chunk
-    assert fractions[0] < 0.5
-    assert fractions == sorted(fractions) and len(set(fractions)) >= 5
+    assert fractions == sorted(fractions) and 0 < fractions[-1] <= 1
     assert _same(src, tmp_path, ".csv", 300).streamed
+
+
+def test_the_paced_file_holds_the_reader_back_until_allowed(
+        tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.setattr(_PacedFile, "_WAIT_S", 60.0)  # no timeout within the test
+    src = tmp_path / "bytes.csv"
+    src.write_bytes(b"x" * 10_000)
+    paced = _PacedFile(src, 100, ahead=1000)
+    got: list[int] = []
+    reader = threading.Thread(target=lambda: got.extend(
+        len(paced.read(400)) for _ in range(10)))
+    reader.start()
+    reader.join(0.5)
+    # reads start at byte 100 and stop once the position has reached 100 + 1000
+    assert reader.is_alive() and paced.tell() == 1300
+    paced.allow()  # the consumer took a batch: 1000 bytes more past the position
+    reader.join(0.5)
+    assert paced.tell() == 2500
+    paced.close()  # closing lets the reader finish (reads past the end are empty)
+    reader.join(5)
+    assert not reader.is_alive()
