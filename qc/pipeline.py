@@ -240,7 +240,6 @@ def _default_accuracy(layout: Layout) -> float:
 
 def _missing_inputs(frame: pd.DataFrame, m: MeasurementArrays) -> np.ndarray:
     """A plain reason for each row the core could not evaluate ('' where it could)."""
-    reasons = np.full(len(frame), "", dtype=object)
     checks = (
         (~np.isfinite(m.reading), "no usable reading"),
         (np.isnan(_col(frame, "lower_limit_mm")) & np.isnan(_col(frame, "upper_limit_mm")),
@@ -248,10 +247,14 @@ def _missing_inputs(frame: pd.DataFrame, m: MeasurementArrays) -> np.ndarray:
         (m.scaled & ~np.isfinite(m.t_part), "no part temperature"),
         (m.scaled & ~np.isfinite(m.alpha_part), "no part material or expansion coefficient"),
     )
-    for mask, reason in checks:
-        reasons = np.where(mask & (reasons == ""), reason, np.where(
-            mask, reasons + "; " + reason, reasons))
-    return reasons
+    # one bit per reason; the few combinations that occur are written out once
+    code = np.zeros(len(frame), dtype=np.int64)
+    for j, (mask, _) in enumerate(checks):
+        code |= np.asarray(mask, dtype=np.int64) << j
+    uniq, inverse = np.unique(code, return_inverse=True)
+    texts = np.array(["; ".join(r for j, (_, r) in enumerate(checks) if c >> j & 1)
+                      for c in uniq.tolist()], dtype=object)
+    return texts[inverse.ravel()]
 
 
 def evaluate_table(table: InspectionTable, settings: Settings, *,

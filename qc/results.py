@@ -5,6 +5,8 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
 
 from qc.core.band import allowable_band
 from qc.core.budget import BatchBudget
@@ -91,34 +93,78 @@ def _categorical(codes: np.ndarray, labels: list[str]) -> pd.Categorical:
 def characteristic_frame(frame: pd.DataFrame, results: pd.DataFrame,
                          share: float) -> pd.DataFrame:
     """Per characteristic: n, mean, s, min, max of the corrected sizes (row unit), and the
-    temperature band that keeps the thermal error within ``share`` of the tolerance."""
-    data = pd.DataFrame({
-        "characteristic": frame["characteristic"].fillna("").to_numpy(),
-        "unit": results["unit"].to_numpy(),
-        "size": results["size_at_20c"].to_numpy(),
-        "lower": results["lower_limit"].to_numpy(),
-        "upper": results["upper_limit"].to_numpy(),
-        "verdict": results["verdict"].to_numpy(),
-    })
-    g = data.groupby(["characteristic", "unit"], sort=False, dropna=False)
-    out = g["size"].agg(["count", "mean", "std", "min", "max"]).reset_index()
-    out = out.rename(columns={"count": "n", "std": "s"})
-    out["lower_limit"] = g["lower"].first().to_numpy()
-    out["upper_limit"] = g["upper"].first().to_numpy()
+    temperature band that keeps the thermal error within ``share`` of the tolerance.
+
+    Groups are (characteristic, unit) in order of first appearance; the texts are turned into
+    one integer group code first, so the statistics are a numeric groupby.
+    """
+    group, characteristic, unit = _group_codes(frame["characteristic"].fillna(""),
+                                                 results["unit"])
+    size = pd.Series(results["size_at_20c"].to_numpy(dtype=float))
+    stats = size.groupby(group, sort=False).agg(["count", "mean", "std", "min", "max"])
+    out = pd.DataFrame({"characteristic": characteristic, "unit": unit})
+    out["n"] = stats["count"].to_numpy()
+    out["mean"] = stats["mean"].to_numpy()
+    out["s"] = stats["std"].to_numpy()
+    out["min"] = stats["min"].to_numpy()
+    out["max"] = stats["max"].to_numpy()
+    out["lower_limit"] = _first_valid(results["lower_limit"].to_numpy(dtype=float), group,
+                                      len(out))
+    out["upper_limit"] = _first_valid(results["upper_limit"].to_numpy(dtype=float), group,
+                                      len(out))
+    verdict = results["verdict"]
     for v in ("conforms", "nonconforming", "borderline", "not evaluated"):
-        out[v] = g["verdict"].apply(lambda s, v=v: int((s == v).sum())).to_numpy()
+        hit = (verdict == v).to_numpy(dtype=bool)
+        count = np.bincount(group[hit], minlength=len(out)).astype(np.int64)
+        out[v] = count if len(out) else count.astype(object)  # empty: as groupby apply gives
     out["band_low_c"], out["band_high_c"], out["band_corrected_low_c"], \
-        out["band_corrected_high_c"] = _bands(frame, data, g, share)
+        out["band_corrected_high_c"] = _bands(frame, group, len(out), share)
     return out
 
 
-def _bands(frame: pd.DataFrame, data: pd.DataFrame, g, share: float):
-    """Allowable temperature band per characteristic (qc.core.band), NaN where not defined."""
+def _group_codes(characteristic: pd.Series, unit: pd.Series
+                 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """One code per row for its (characteristic, unit), numbered in order of first
+    appearance, and the two labels of each group (object arrays; a blank unit stays NaN)."""
+    c_codes, c_uniques = pd.factorize(characteristic, use_na_sentinel=False)
+    u_codes, u_uniques = pd.factorize(unit, use_na_sentinel=False)
+    pair = c_codes.astype(np.int64) * max(len(u_uniques), 1) + u_codes
+    group, pairs = pd.factorize(pair)
+    width = max(len(u_uniques), 1)
+    labels_c = np.asarray(c_uniques, dtype=object)[pairs // width]
+    labels_u = np.asarray(u_uniques, dtype=object)[pairs % width]
+    return group.astype(np.intp), labels_c, labels_u
+
+
+def _first_valid(values: np.ndarray, group: np.ndarray, ngroups: int) -> np.ndarray:
+    """Each group's first non-NaN value, NaN where it has none (groupby ``first``).
+
+    Groups usually show a value within their first rows, so the rows are scanned in growing
+    blocks from the top and the scan stops once every group has its value.
+    """
+    out = np.full(ngroups, np.nan)
+    missing = np.ones(ngroups, dtype=bool)
+    start, block = 0, 4096
+    while start < len(values) and missing.any():
+        stop = min(len(values), start + block)
+        v, g = values[start:stop], group[start:stop]
+        take = ~np.isnan(v) & missing[g]
+        found, first = np.unique(g[take], return_index=True)  # first occurrence in the block
+        out[found] = v[take][first]
+        missing[found] = False
+        start, block = stop, block * 2
+    return out
+
+
+def _bands(frame: pd.DataFrame, group: np.ndarray, ngroups: int, share: float):
+    """Allowable temperature band per characteristic (qc.core.band), NaN where not defined.
+
+    Each input is the group's first non-blank value, as pandas' groupby ``first`` gives it.
+    """
     def first(col: str) -> np.ndarray:
         if col not in frame:
-            return np.full(g.ngroups, np.nan)
-        return pd.Series(frame[col].to_numpy(dtype=float), index=data.index).groupby(
-            [data["characteristic"], data["unit"]], sort=False, dropna=False).first().to_numpy()
+            return np.full(ngroups, np.nan)
+        return _first_valid(frame[col].to_numpy(dtype=float), group, ngroups)
 
     nominal = first("nominal_mm")
     width = first("upper_limit_mm") - first("lower_limit_mm")
@@ -144,7 +190,10 @@ def soak_advice(frame: pd.DataFrame, results: pd.DataFrame,
     """
     n = len(frame)
     low, high = np.full(n, np.nan), np.full(n, np.nan)
-    rows = np.flatnonzero(results["flags"].str.contains("soak-advised", regex=False).to_numpy())
+    soak = _has_flag(results["flags"], "soak-advised")
+    if soak is None:
+        soak = results["flags"].str.contains("soak-advised", regex=False).to_numpy()
+    rows = np.flatnonzero(soak)
     if rows.size == 0:
         return low, high
     from qc.library.heat_transfer import load_heat_transfer
@@ -153,15 +202,17 @@ def soak_advice(frame: pd.DataFrame, results: pd.DataFrame,
     library = load_materials()
     resting, surfaces = load_heat_transfer()
     still, dull = resting["still-air"], surfaces["dull-metal"]
-    names = frame["part_material"].fillna("").to_numpy(dtype=object)[rows]
-    props = np.full((rows.size, 3), np.nan)
-    for name in set(names.tolist()):
+    # materials repeat: look each distinct name up once and spread its properties by code
+    codes, names = pd.factorize(frame["part_material"].iloc[rows].fillna(""),
+                                use_na_sentinel=False)
+    table = np.full((len(names), 3), np.nan)
+    for j, name in enumerate(np.asarray(names, dtype=object).tolist()):
         try:
             mat = library.get(name)
         except QcError:
             continue
-        props[names == name] = (mat.density, mat.specific_heat, mat.conductivity)
-    ok = np.isfinite(props).all(axis=1)
+        table[j] = (mat.density, mat.specific_heat, mat.conductivity)
+    ok = np.isfinite(table).all(axis=1)[codes]
     if not ok.any():
         return low, high
     r = rows[ok]
@@ -174,70 +225,102 @@ def soak_advice(frame: pd.DataFrame, results: pd.DataFrame,
     if not good.any():
         return low, high
     r, part, target, size = r[good], part[good], target[good], size[good]
-    p = props[ok][good]
+    material = codes[ok][good]
+    density, heat, conductivity = (np.ascontiguousarray(table[:, j])[material] for j in range(3))
     # radiation of a dull, shop-worn surface added to still-air convection, each end of the
     # range with its own emissivity (qc/data/heat_transfer.toml)
     h = [float(c + radiation_coefficient(e)) for c, e in (
         (still.h_low, dull.eps_low), (still.h_nominal, dull.eps_nominal),
         (still.h_high, dull.eps_high))]
-    soak = soak_time_for_rows(part, target, band_k, p[:, 0], p[:, 1], p[:, 2], *h, size)
-    low[r] = soak.fast_s / 60.0
-    high[r] = soak.slow_s / 60.0
+    soak_rows = soak_time_for_rows(part, target, band_k, density, heat, conductivity, *h, size)
+    low[r] = soak_rows.fast_s / 60.0
+    high[r] = soak_rows.slow_s / 60.0
     return low, high
+
+
+def _has_flag(flags: pd.Series, code: str) -> np.ndarray | None:
+    """Rows whose ';'-separated flags contain ``code``, for a categorical flags column
+    without blanks: the few categories are tested once and each row takes its category's
+    answer.  None for any other column; the callers then test the texts row by row."""
+    if not isinstance(flags.dtype, pd.CategoricalDtype):
+        return None
+    codes = flags.cat.codes.to_numpy()
+    if codes.size and codes.min() < 0:
+        return None
+    hit = flags.cat.categories.astype(str).str.contains(code, regex=False)
+    return np.asarray(hit, dtype=bool)[codes]
 
 
 def actions_frame(frame: pd.DataFrame, results: pd.DataFrame) -> pd.DataFrame:
     """What to do next, one line per row and action (borderline, soak, instrument, calibration).
 
-    Reasons are written only for the rows that need them.
+    Reasons are written only for the rows that need them, each distinct text once: a reason
+    is a table of texts and one code per row into it, and the texts are spread at the end.
     """
-    flags = results["flags"].fillna("").astype(str)
     verdict = results["verdict"]
-    soak = flags.str.contains("soak-advised", regex=False).to_numpy()
-    hot = flags.str.contains("temperature-decides", regex=False).to_numpy()
-    entries = []
+
+    def flagged(code: str) -> np.ndarray:
+        hit = _has_flag(results["flags"], code)
+        if hit is None:
+            flags = results["flags"].fillna("").astype(str)
+            hit = flags.str.contains(code, regex=False).to_numpy()
+        return hit
+
+    soak = flagged("soak-advised")
+    hot = flagged("temperature-decides")
+    entries: list[tuple[np.ndarray, str, list, np.ndarray]] = []
     source_row = frame["source_row"].to_numpy()
-    part = _labels(frame["part"])
-    characteristic = _labels(frame["characteristic"])
 
     def add(mask: np.ndarray, action: str, reason) -> None:
-        """``reason``: a text, or a function of the selected rows giving one text per row."""
+        """``reason``: a text, or a function of the selected rows giving (texts, code per
+        row)."""
         rows = np.flatnonzero(mask)
         if rows.size == 0:
             return
-        text = (np.full(rows.size, reason, dtype=object) if isinstance(reason, str)
-                else np.asarray(reason(rows), dtype=object))
-        entries.append((rows, action, text))
+        if isinstance(reason, str):
+            texts, codes = [reason], np.zeros(rows.size, dtype=np.intp)
+        else:
+            texts, codes = reason(rows)
+        entries.append((rows, action, list(texts), codes))
 
-    def soak_reason(rows: np.ndarray) -> np.ndarray:
+    def soak_reason(rows: np.ndarray) -> tuple[list, np.ndarray]:
         low = results["soak_minutes_low"].to_numpy(dtype=float)[rows]
         high = results["soak_minutes_high"].to_numpy(dtype=float)[rows]
         known = np.isfinite(low) & np.isfinite(high)
-        text = np.full(rows.size, "let it reach the gauge temperature, then re-measure",
-                       dtype=object)
-        text[known] = [f"let it soak {lo:.0f}–{hi:.0f} min in still air, then re-measure"
-                       for lo, hi in zip(low[known], high[known], strict=True)]
-        return text
+        codes = np.zeros(rows.size, dtype=np.intp)
+        lo_text, lo_codes = _format_fixed(low[known], 0)
+        hi_text, hi_codes = _format_fixed(high[known], 0)
+        pair, pairs = pd.factorize(lo_codes.astype(np.int64) * max(len(hi_text), 1) + hi_codes)
+        width = max(len(hi_text), 1)
+        texts = ["let it reach the gauge temperature, then re-measure"] + [
+            f"let it soak {lo_text[a // width]}–{hi_text[a % width]} min in still air, "
+            "then re-measure" for a in pairs.tolist()]
+        codes[known] = pair + 1
+        return texts, codes
 
-    def ratio_reason(rows: np.ndarray) -> np.ndarray:
-        r = results["uncertainty_ratio"].to_numpy(dtype=float)[rows]
-        return np.array([f"tolerance / (2U) = {x:.1f} (below 4:1)" for x in r], dtype=object)
+    def ratio_reason(rows: np.ndarray) -> tuple[list, np.ndarray]:
+        text, codes = _format_fixed(results["uncertainty_ratio"].to_numpy(dtype=float)[rows], 1)
+        return [f"tolerance / (2U) = {x} (below 4:1)" for x in text], codes
 
-    def overdue_reason(rows: np.ndarray) -> np.ndarray:
-        inst = frame["instrument"].fillna("").astype(str).to_numpy(dtype=object)[rows]
-        return "instrument " + inst + " was past its calibration due date"
+    def overdue_reason(rows: np.ndarray) -> tuple[list, np.ndarray]:
+        inst = frame["instrument"].iloc[rows].fillna("").astype(str)
+        codes, names = pd.factorize(inst, use_na_sentinel=False)
+        return ["instrument " + x + " was past its calibration due date"
+                for x in np.asarray(names, dtype=object).tolist()], codes
+
+    def input_reason(rows: np.ndarray) -> tuple[list, np.ndarray]:
+        codes, texts = pd.factorize(results["message"].iloc[rows].fillna(""),
+                                    use_na_sentinel=False)
+        return np.asarray(texts, dtype=object).tolist(), codes
 
     add(soak, "soak and re-measure", soak_reason)
     add((verdict == "borderline").to_numpy() & ~soak, "re-measure or decide with the customer",
         "borderline: neither conformance nor nonconformance is proven under the decision rule")
     add(hot & ~soak, "check the temperatures",
         "the verdict without the thermal correction would differ")
-    add(flags.str.contains("instrument-too-coarse", regex=False).to_numpy(),
-        "use a finer instrument", ratio_reason)
-    add(flags.str.contains("calibration-overdue", regex=False).to_numpy(), "calibration overdue",
-        overdue_reason)
-    add((verdict == "not evaluated").to_numpy(), "correct the input",
-        lambda rows: results["message"].fillna("").to_numpy(dtype=object)[rows])
+    add(flagged("instrument-too-coarse"), "use a finer instrument", ratio_reason)
+    add(flagged("calibration-overdue"), "calibration overdue", overdue_reason)
+    add((verdict == "not evaluated").to_numpy(), "correct the input", input_reason)
     add((verdict == "nonconforming").to_numpy(), "segregate the part (nonconforming)",
         "outside the specification zone enlarged by U")
     columns = ["source_row", "part", "characteristic", "action", "reason"]
@@ -246,15 +329,71 @@ def actions_frame(frame: pd.DataFrame, results: pd.DataFrame) -> pd.DataFrame:
     rows = np.concatenate([e[0] for e in entries])
     order = np.argsort(source_row[rows], kind="stable")  # by spreadsheet row, actions in turn
     rows = rows[order]
+    offsets = np.cumsum([0] + [len(e[2]) for e in entries])[:-1]
+    reason_codes = np.concatenate([e[3] + o for e, o in zip(entries, offsets, strict=True)])
     return pd.DataFrame({
         "source_row": source_row[rows],
-        "part": part[rows],
-        "characteristic": characteristic[rows],
+        "part": _labels_at(frame["part"], rows),
+        "characteristic": _labels_at(frame["characteristic"], rows),
         "action": pd.Categorical.from_codes(
             np.repeat(np.arange(len(entries)), [e[0].size for e in entries])[order],
             [e[1] for e in entries]),
-        "reason": np.concatenate([e[2] for e in entries])[order],
+        "reason": _texts_at([t for e in entries for t in e[2]], reason_codes[order]),
     })
+
+
+def _format_fixed(values: np.ndarray, decimals: int) -> tuple[list[str], np.ndarray]:
+    """``f"{v:.{decimals}f}"`` for each value as (distinct texts, code per value).
+
+    Away from a rounding tie, the text depends only on the value rounded to ``decimals``
+    (round half to even, as Python's formatting does), which has few distinct values, so each
+    rounded value is formatted once.  Values within reach of a tie, huge or not finite, are
+    formatted one by one, exactly as before.
+    """
+    scaled = values * 10.0**decimals
+    rounded = np.rint(scaled)
+    with np.errstate(invalid="ignore"):
+        clear = (np.abs(scaled) < 1e9) & (np.abs(np.abs(scaled - rounded) - 0.5) > 1e-6)
+    key = np.where(clear, rounded, 0.0).view(np.int64)  # bit pattern: -0 stays apart from 0
+    codes, uniques = pd.factorize(key)
+    texts = [f"{x / 10.0**decimals:.{decimals}f}" for x in uniques.view(np.float64).tolist()]
+    codes = codes.astype(np.intp)
+    odd = np.flatnonzero(~clear)
+    if odd.size:
+        codes[odd] = len(texts) + np.arange(odd.size)
+        texts += [f"{x:.{decimals}f}" for x in values[odd].tolist()]
+    return texts, codes
+
+
+def _text_dtype():
+    """How pandas stores a column built from Python texts (pyarrow 'str' from pandas 3 on),
+    or None where it does not keep texts in pyarrow (then columns are built as before)."""
+    dtype = pd.Series(np.array([""], dtype=object)).dtype
+    if isinstance(dtype, pd.StringDtype) and dtype.storage == "pyarrow":
+        return dtype
+    return None
+
+
+def _texts_at(texts: list, codes: np.ndarray):
+    """The column ``texts[codes]``, made in pyarrow (no Python string per row) where pandas
+    stores texts there; an object array, as pandas would infer it, otherwise."""
+    dtype = _text_dtype()
+    if dtype is not None and all(isinstance(t, str) for t in texts):
+        table = pa.array(texts, type=pa.large_string())
+        return pd.array(table.take(pa.array(codes, type=pa.int64())), dtype=dtype)
+    table = np.empty(len(texts), dtype=object)
+    table[:] = texts
+    return table[codes]
+
+
+def _labels_at(column: pd.Series, rows: np.ndarray):
+    """The text column's values at ``rows``, '' for blanks (see :func:`_labels`)."""
+    dtype = _text_dtype()
+    if dtype is not None and isinstance(column.dtype, pd.StringDtype) \
+            and column.dtype.storage == "pyarrow":
+        taken = pc.fill_null(column.array.__arrow_array__().take(pa.array(rows)), "")
+        return pd.array(taken, dtype=dtype)
+    return _labels(column)[rows]
 
 
 def _labels(column: pd.Series) -> np.ndarray:

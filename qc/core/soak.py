@@ -102,15 +102,43 @@ def _check_kind(kind: str) -> None:
         raise InputError(f"shape kind must be one of {', '.join(_KINDS)}, got {kind!r}")
 
 
-def first_eigenvalue(kind: str, biot: ArrayLike) -> FloatArray:
-    """First root ζ₁ of the one-term equation for ``kind`` ('wall', 'cylinder', 'sphere').
+#: Below this many values solving each one directly is as cheap as finding the distinct ones.
+_DISTINCT_MIN_SIZE = 2048
 
-    Solved by vectorised bisection on (0, upper), where the left side rises from 0
-    to infinity (upper = π/2, j₀,₁ = 2.4048, π).  Bi = ∞ gives the upper bound.
-    Reference: Incropera eqs. 5.39c, 5.49c, 5.50c.
+
+def _distinct(values: FloatArray) -> tuple[FloatArray, NDArray[np.intp]] | None:
+    """The sorted distinct values of ``values`` and each element's index among them.
+
+    Inspection rows repeat sizes, materials and coefficients, so a Biot number has few
+    distinct values; the costly root solve then runs once per value.  Returns None where a
+    direct solve is as cheap (small arrays, few repeats) or where some value is not finite
+    and positive (the special cases 0, inf and NaN stay on the direct path).
     """
-    _check_kind(kind)
-    bi = _arr(biot)
+    flat = values.ravel()
+    if flat.size < _DISTINCT_MIN_SIZE or not (np.isfinite(flat).all() and (flat > 0).all()):
+        return None
+    try:
+        uniq = np.unique(flat, sorted=False)  # hashed: no sort of the whole array
+    except TypeError:  # numpy before 2.3 has no unsorted unique
+        uniq = np.unique(flat)
+    if uniq.size * 4 > flat.size:
+        return None
+    uniq.sort()
+    return uniq, np.searchsorted(uniq, flat).reshape(values.shape)
+
+
+def _per_distinct(func, values: FloatArray) -> tuple[FloatArray, ...]:
+    """``func(values)`` for an elementwise ``func`` returning a tuple of arrays, evaluated
+    once per distinct value and spread back (the same numbers as evaluating every element)."""
+    found = _distinct(values)
+    if found is None:
+        return func(values)
+    uniq, index = found
+    return tuple(np.asarray(a)[index] for a in func(uniq))
+
+
+def _bisect_eigenvalue(kind: str, bi: FloatArray) -> FloatArray:
+    """Vectorised bisection for ζ₁ on (0, upper), one result per element of ``bi``."""
     upper = _UPPER[kind]
     lo = np.zeros_like(bi)
     hi = np.full_like(bi, upper)
@@ -123,6 +151,18 @@ def first_eigenvalue(kind: str, biot: ArrayLike) -> FloatArray:
             hi = np.where(below, hi, mid)
     z = 0.5 * (lo + hi)
     return np.where(np.isinf(bi), upper, np.where(bi <= 0, 0.0, z))
+
+
+def first_eigenvalue(kind: str, biot: ArrayLike) -> FloatArray:
+    """First root ζ₁ of the one-term equation for ``kind`` ('wall', 'cylinder', 'sphere').
+
+    Solved by vectorised bisection on (0, upper), where the left side rises from 0
+    to infinity (upper = π/2, j₀,₁ = 2.4048, π), once per distinct Biot number.
+    Bi = ∞ gives the upper bound.  Reference: Incropera eqs. 5.39c, 5.49c, 5.50c.
+    """
+    _check_kind(kind)
+    bi = _arr(biot)
+    return _per_distinct(lambda b: (_bisect_eigenvalue(kind, b),), bi)[0]
 
 
 def one_term_coefficient(kind: str, zeta: ArrayLike) -> FloatArray:
@@ -164,6 +204,14 @@ def one_term_ratio(
     z = first_eigenvalue(kind, biot)
     ratio = one_term_coefficient(kind, z) * np.exp(-(z**2) * _arr(fourier))
     return ratio * surface_factor(kind, z) if where == "surface" else ratio
+
+
+def _factor_terms(kind: str, biot: FloatArray) -> tuple[FloatArray, FloatArray, FloatArray]:
+    """ζ₁, ln C₁ and ln of the surface factor for one direction of the product solution;
+    all depend on the Biot number alone, so :func:`soak_time` takes them per distinct value."""
+    zeta = first_eigenvalue(kind, biot)
+    return (zeta, np.log(one_term_coefficient(kind, zeta)),
+            np.log(surface_factor(kind, zeta)))
 
 
 # --------------------------------------------------------------------------- geometry
@@ -281,6 +329,114 @@ def _target_ratio(
     return np.where(np.abs(gauge_c - room_c) >= band_k, 0.0, ratio)
 
 
+def _check_soak_inputs(band: FloatArray, rho: FloatArray, cp: FloatArray, k: FloatArray,
+                       hh: FloatArray) -> None:
+    """The input checks of :func:`soak_time`, in its order and with its messages."""
+    if np.any(~(band > 0)):
+        raise InputError("temperature band: expected a positive number of kelvin (e.g. 0.5)")
+    if np.any(~(hh > 0)) or np.any(~(rho > 0)) or np.any(~(cp > 0)) or np.any(~(k > 0)):
+        raise InputError(
+            "heat-transfer coefficient, density, specific heat and conductivity: "
+            "expected positive numbers"
+        )
+
+
+@dataclass(frozen=True)
+class _Body:
+    """What the soak time needs of the part and its surface, apart from the temperatures.
+
+    Everything here is elementwise in (ρ, c, k, h, geometry), so it may be worked out per
+    distinct part and spread to its rows with :meth:`take`.  The combinations the times use
+    (−τ, Σ ln C₁ + ln S, α·Σ ζ₁²/L², the lumped masks) are formed here once.
+    """
+
+    biot: FloatArray
+    neg_tau: FloatArray  # −τ, τ = ρ·c·L_c/h the lumped time constant, s
+    log_c: FloatArray  # Σ ln C₁ over the one-dimensional factors
+    log_cs: FloatArray  # Σ ln C₁ + ln of the largest surface factor
+    decay: FloatArray  # α·Σ ζ₁²/L² over the factors, 1/s
+    lumped: NDArray[np.bool_]  # Bi < 0.1
+    near_limit: NDArray[np.bool_]  # lumped with Bi ≥ 0.01: kept no shorter than one-term
+    diffusivity: FloatArray
+    longest: FloatArray  # the longest finite half-thickness or radius, m
+
+    def take(self, index: NDArray[np.intp], fourier: bool = True) -> _Body:
+        """The terms at ``index`` (one body number per row); scalars stay as they are.
+
+        With ``fourier`` False the two terms only the Fourier check reads (α, longest
+        length) are left per body: for callers that do not ask for that check.
+        """
+        skip = () if fourier else ("diffusivity", "longest")
+        values = ((f, np.asarray(getattr(self, f))) for f in self.__dataclass_fields__)
+        return _Body(*(v[index] if v.ndim and f not in skip else v for f, v in values))
+
+
+def _body_terms(rho: FloatArray, cp: FloatArray, k: FloatArray, hh: FloatArray,
+                geometry: Geometry) -> _Body:
+    """Biot number, lumped time constant and the one-term product solution's terms."""
+    biot = hh * geometry.lc_m / k
+    diffusivity = k / (rho * cp)
+    tau = rho * cp * geometry.lc_m / hh
+    shape = np.shape(biot)
+    sum_log_c = np.zeros(shape)
+    rate = np.zeros_like(sum_log_c)
+    best_surface = np.full_like(sum_log_c, -np.inf)
+    lengths = []
+    for kind, length in geometry.factors:
+        finite = np.isfinite(length)
+        safe_len = np.where(finite, length, 1.0)
+        zeta, log_c, log_surface = _per_distinct(
+            lambda bi, kind=kind: _factor_terms(kind, bi), hh * safe_len / k
+        )
+        sum_log_c = sum_log_c + np.where(finite, log_c, 0.0)
+        rate = rate + np.where(finite, zeta**2 / safe_len**2, 0.0)
+        best_surface = np.maximum(best_surface, np.where(finite, log_surface, -np.inf))
+        lengths.append(np.where(finite, length, 0.0))
+    longest = np.maximum.reduce([np.broadcast_to(x, rate.shape) for x in lengths])
+    lumped = biot < BIOT_LUMPED_LIMIT
+    return _Body(biot, -tau, sum_log_c, sum_log_c + best_surface, diffusivity * rate, lumped,
+                 lumped & (biot >= 0.01), diffusivity, longest)
+
+
+def _log_target(target: FloatArray) -> FloatArray:
+    """ln θ*, NaN where the band is never reached."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.log(np.where(target > 0, target, np.nan))
+
+
+def _reach(target: FloatArray) -> tuple[NDArray[np.bool_], NDArray[np.bool_]]:
+    """Rows that never get inside the band, and rows already inside."""
+    return ~(target > 0), np.isinf(target) | (target >= 1.0)
+
+
+def _times(target: FloatArray, log_target: FloatArray, b: _Body, fourier: bool = True,
+           reach: tuple[NDArray[np.bool_], NDArray[np.bool_]] | None = None
+           ) -> tuple[FloatArray, FloatArray, NDArray[np.bool_] | None]:
+    """Centre and surface times and (if asked) the Fourier check, per row."""
+    # Lumped: θ* = exp(−t·h/(ρ c L_c)).
+    t_lumped = b.neg_tau * log_target
+    # One-term product solution.
+    t_series = (b.log_c - log_target) / b.decay
+    t_series_surface = (b.log_cs - log_target) / b.decay
+
+    # Near the limit the lumped time can be shorter than the one-term centre time (the core
+    # lags), so that a larger h would seem to take longer across Bi = 0.1. From Bi = 0.01 on,
+    # the lumped answer is kept no shorter than the one-term centre time (the safe side).
+    checked = b.near_limit & np.isfinite(t_series)
+    t_lumped_safe = np.where(checked, np.maximum(t_lumped, t_series), t_lumped)
+    centre = np.where(b.lumped, t_lumped_safe, t_series)
+    surface = np.where(b.lumped, t_lumped, t_series_surface)
+    never, inside = _reach(target) if reach is None else reach
+    centre = np.where(never, np.inf, np.where(inside, 0.0, np.maximum(centre, 0.0)))
+    surface = np.where(never, np.inf, np.where(inside, 0.0, np.maximum(surface, 0.0)))
+    surface = np.minimum(surface, centre)
+    fourier_ok = None
+    if fourier:
+        fo_min = b.diffusivity * t_series / b.longest**2
+        fourier_ok = b.lumped | inside | never | (fo_min >= FOURIER_ONE_TERM_MIN)
+    return centre, surface, fourier_ok
+
+
 def soak_time(
     part_c: ArrayLike,
     room_c: ArrayLike,
@@ -303,64 +459,16 @@ def soak_time(
     part, room, band = _arr(part_c), _arr(room_c), _arr(band_k)
     gauge = room if gauge_c is None else _arr(gauge_c)
     rho, cp, k, hh = _arr(density), _arr(specific_heat), _arr(conductivity), _arr(h)
-    if np.any(~(band > 0)):
-        raise InputError("temperature band: expected a positive number of kelvin (e.g. 0.5)")
-    if np.any(~(hh > 0)) or np.any(~(rho > 0)) or np.any(~(cp > 0)) or np.any(~(k > 0)):
-        raise InputError(
-            "heat-transfer coefficient, density, specific heat and conductivity: "
-            "expected positive numbers"
-        )
-
+    _check_soak_inputs(band, rho, cp, k, hh)
     target = _target_ratio(part, room, band, gauge)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        log_target = np.log(np.where(target > 0, target, np.nan))
-    biot = hh * geometry.lc_m / k
-    diffusivity = k / (rho * cp)
-
-    # Lumped: θ* = exp(−t·h/(ρ c L_c)).
-    tau = rho * cp * geometry.lc_m / hh
-    t_lumped = -tau * log_target
-
-    # One-term product solution.
-    sum_log_c = np.zeros(np.broadcast(biot, target).shape)
-    rate = np.zeros_like(sum_log_c)
-    best_surface = np.full_like(sum_log_c, -np.inf)
-    lengths = []
-    for kind, length in geometry.factors:
-        finite = np.isfinite(length)
-        safe_len = np.where(finite, length, 1.0)
-        zeta = first_eigenvalue(kind, hh * safe_len / k)
-        sum_log_c = sum_log_c + np.where(finite, np.log(one_term_coefficient(kind, zeta)), 0.0)
-        rate = rate + np.where(finite, zeta**2 / safe_len**2, 0.0)
-        best_surface = np.maximum(
-            best_surface, np.where(finite, np.log(surface_factor(kind, zeta)), -np.inf)
-        )
-        lengths.append(np.where(finite, length, 0.0))
-    t_series = (sum_log_c - log_target) / (diffusivity * rate)
-    t_series_surface = (sum_log_c + best_surface - log_target) / (diffusivity * rate)
-    longest = np.maximum.reduce([np.broadcast_to(x, rate.shape) for x in lengths])
-    fo_min = diffusivity * t_series / longest**2
-
-    lumped = biot < BIOT_LUMPED_LIMIT
-    # Near the limit the lumped time can be shorter than the one-term centre time (the core
-    # lags), so that a larger h would seem to take longer across Bi = 0.1. From Bi = 0.01 on,
-    # the lumped answer is kept no shorter than the one-term centre time (the safe side).
-    checked = lumped & (biot >= 0.01) & np.isfinite(t_series)
-    t_lumped_safe = np.where(checked, np.maximum(t_lumped, t_series), t_lumped)
-    centre = np.where(lumped, t_lumped_safe, t_series)
-    surface = np.where(lumped, t_lumped, t_series_surface)
-    never = ~(target > 0)
-    inside = np.isinf(target) | (target >= 1.0)
-    centre = np.where(never, np.inf, np.where(inside, 0.0, np.maximum(centre, 0.0)))
-    surface = np.where(never, np.inf, np.where(inside, 0.0, np.maximum(surface, 0.0)))
-    surface = np.minimum(surface, centre)
-    fourier_ok = lumped | inside | never | (fo_min >= FOURIER_ONE_TERM_MIN)
-    method = np.where(lumped, "lumped", "one-term")
-    shape = np.broadcast(centre, biot).shape
+    body = _body_terms(rho, cp, k, hh, geometry)
+    centre, surface, fourier_ok = _times(target, _log_target(target), body)
+    method = np.where(body.lumped, "lumped", "one-term")
+    shape = np.broadcast(centre, body.biot).shape
     return SoakTime(
         centre_s=np.broadcast_to(centre, shape).copy(),
         surface_s=np.broadcast_to(surface, shape).copy(),
-        biot=np.broadcast_to(biot, shape).copy(),
+        biot=np.broadcast_to(body.biot, shape).copy(),
         method=np.broadcast_to(method, shape).copy(),
         fourier_ok=np.broadcast_to(fourier_ok, shape).copy(),
         h=np.broadcast_to(hh, shape).copy(),
@@ -417,6 +525,36 @@ class RowSoak:
     note: NDArray[np.str_]
 
 
+def _body_index(
+    columns: tuple[FloatArray, ...], shape: tuple[int, ...]
+) -> tuple[NDArray[np.intp], tuple[FloatArray, ...]] | None:
+    """Number the distinct combinations of ``columns`` (each broadcast to ``shape``).
+
+    Returns the body number per row and each column's value per body, or None where the
+    values do not repeat enough for this to pay (then every row is worked out on its own).
+    """
+    if len(shape) != 1:
+        return None
+    combined = np.zeros(shape, dtype=np.int64)
+    radix = 1
+    found = []
+    for col in columns:
+        d = _distinct(np.broadcast_to(col, shape))
+        if d is None:
+            return None
+        found.append((d[0], radix))
+        combined += d[1] * radix
+        radix *= d[0].size
+        if radix > max(shape[0], 1):
+            return None
+    present = np.zeros(radix, dtype=bool)
+    present[combined] = True
+    ids = np.flatnonzero(present)  # the combinations that occur, in increasing code
+    body = (np.cumsum(present) - 1)[combined]
+    per_body = tuple(u[(ids // r) % u.size] for u, r in found)
+    return body.astype(np.intp), per_body
+
+
 def soak_time_for_rows(
     part_c: ArrayLike,
     room_c: ArrayLike,
@@ -437,6 +575,10 @@ def soak_time_for_rows(
     proxy, a solid cube whose edge is the nominal size (V/A = size/6) — a stated
     assumption, returned in ``note``.  One-term rows use the equivalent sphere r = 3·V/A
     (the slowest shape for a given V/A).
+
+    The same numbers as :func:`soak_time_range` on the rows' geometry; rows repeat sizes and
+    materials, so the part's terms (eigenvalues, time constants) are worked out once per
+    distinct (V/A, ρ, c, k) and only the temperatures are handled row by row.
     """
     size = _arr(nominal_size_mm)
     lc_given = (
@@ -451,13 +593,44 @@ def soak_time_for_rows(
             "soak time: each row needs a positive nominal size or characteristic length (mm)"
         )
     lc = lc_mm / 1000.0
-    geometry = Geometry(lc, (("sphere", 3.0 * lc),), "rows")
-    props = (density, specific_heat, conductivity)
-    r = soak_time_range(part_c, room_c, band_k, *props, h_low, h_nominal, h_high, geometry, gauge_c)
-    shape = r.nominal.centre_s.shape
+    h_all = (_arr(h_high), _arr(h_nominal), _arr(h_low))  # fastest first, as the range runs
+    if np.any(h_all[2] > h_all[1]) or np.any(h_all[1] > h_all[0]):
+        raise InputError("heat-transfer coefficient range: expected low ≤ nominal ≤ high")
+    part, room, band = _arr(part_c), _arr(room_c), _arr(band_k)
+    gauge = room if gauge_c is None else _arr(gauge_c)
+    rho, cp, k = _arr(density), _arr(specific_heat), _arr(conductivity)
+    for hh in h_all:
+        _check_soak_inputs(band, rho, cp, k, hh)
+
+    target = _target_ratio(part, room, band, gauge)
+    log_target = _log_target(target)
+    index = None
+    if all(hh.ndim == 0 for hh in h_all):
+        shape = np.broadcast_shapes(target.shape, rho.shape, cp.shape, k.shape, lc.shape)
+        index = _body_index((lc, rho, cp, k), shape)
+
+    def body(hh: FloatArray) -> _Body:
+        """The part's terms per row for coefficient ``hh``: per distinct part if numbered."""
+        if index is None:
+            return _body_terms(rho, cp, k, hh, Geometry(lc, (("sphere", 3.0 * lc),), "rows"))
+        lc_b, rho_b, cp_b, k_b = index[1]
+        geometry = Geometry(lc_b, (("sphere", 3.0 * lc_b),), "rows")
+        return _body_terms(rho_b, cp_b, k_b, hh, geometry).take(index[0], fourier=False)
+
+    reach = _reach(target)
+    runs = []
+    for hh in h_all:
+        b = body(hh)
+        centre, surface, _ = _times(target, log_target, b, fourier=False, reach=reach)
+        runs.append((centre, surface, b.lumped, b.biot))
+    def full(x: ArrayLike, run: int = 1) -> NDArray:
+        """``x`` at the shape of the run's result (rows by coefficient), as its own array."""
+        return np.broadcast_to(x, np.broadcast(runs[run][0], runs[run][3]).shape).copy()
+
+    shape = np.broadcast(runs[1][0], runs[1][3]).shape
+    method = full(np.where(runs[1][2], "lumped", "one-term"))
     proxy_b = np.broadcast_to(proxy, shape)
-    method = r.nominal.method
-    never = np.isinf(r.nominal.centre_s)
+    never = np.isinf(runs[1][0])
     # the note has few variants: pick them by code instead of joining strings per row
     basis = ("V/A as given",
              "geometry unknown: assumed a solid cube with edge = nominal size (V/A = size/6)")
@@ -465,16 +638,15 @@ def soak_time_for_rows(
     extra = ("", "; gauge and room differ by more than the band: never inside")
     table = np.array([b + "; time range from h low–high" + lg + ex
                       for b in basis for lg in lag for ex in extra], dtype=object)
-    code = proxy_b.astype(np.int8) * 4 + (method == "one-term").astype(np.int8) * 2 \
-        + never.astype(np.int8)
-    note = table[code]
+    code = proxy_b.astype(np.int8) * 4 + np.broadcast_to(~runs[1][2], shape).astype(np.int8) * 2 \
+        + np.broadcast_to(never, shape).astype(np.int8)
     return RowSoak(
-        fast_s=r.fast.centre_s,
-        nominal_s=r.nominal.centre_s,
-        slow_s=r.slow.centre_s,
-        surface_nominal_s=r.nominal.surface_s,
-        method=np.asarray(method),
-        note=np.asarray(note),
+        fast_s=full(runs[0][0], 0),
+        nominal_s=full(runs[1][0]),
+        slow_s=full(runs[2][0], 2),
+        surface_nominal_s=full(runs[1][1]),
+        method=method,
+        note=np.asarray(table[code]),
     )
 
 

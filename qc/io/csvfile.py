@@ -288,6 +288,8 @@ def _plain_utf8(path: Path) -> bool:
         with path.open("rb") as fh:
             while block := fh.read(16 << 20):
                 dec.decode(block)
+                if not tail and b"\r" not in block:  # the usual Unix file: nothing to pair
+                    continue
                 both = tail + block
                 # a CR at the very end may pair with an LF in the next block
                 body = both[:-1] if both.endswith(b"\r") else both

@@ -14,9 +14,11 @@ touches one, :func:`guard_file` decides, cheaply and in bounded memory, whether 
   compared with the row, column and cell limits;
 * a text file is checked for size, binary content, encoding (UTF-8, else Windows-1252 with a
   note) and separators that change from line to line; the fields of each line are counted on
-  the bytes with numpy (the file, at most ``max_text_mb``, is read whole, as the reader reads it),
-  and only lines with a quote that does not simply open or close a field, or with another
-  number of fields, go through the csv module.
+  the bytes with numpy (the file, at most ``max_text_mb``, is mapped whole, as the reader reads
+  it whole, and scanned a block of lines at a time: a block whose quotes all plainly open and
+  close fields is counted from its separators alone, any other block quote by quote), and only
+  lines with a quote that does not simply open or close a field, or with another number of
+  fields, go through the csv module.
 
 Macros in ``.xlsm`` files are never run: nothing in ``qc`` executes workbook content.
 The limits and their reasons are in ``qc/data/limits.toml``; each message names the command-line
@@ -29,13 +31,15 @@ import codecs
 import contextlib
 import csv
 import dataclasses
+import mmap
+import os
 import re
 import struct
 import tomllib
 import zipfile
 import zlib
 from collections import Counter
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from functools import cache
 from importlib import resources
@@ -57,6 +61,7 @@ TEXT_SUFFIXES = (".csv", ".tsv", ".txt")
 _MB = 1024 * 1024
 _CHUNK = 256 * 1024  # bytes per read; memory stays at a few chunks whatever the file's size
 _FORMAT_VERSION = 1
+_Text = bytes | mmap.mmap  # a text file's bytes, read or mapped
 
 
 # --- limits ---------------------------------------------------------------------------------
@@ -569,19 +574,23 @@ def _check_extent(name: str, part: str, e: _Extent, lim: Limits, *, ods: bool = 
 # --- text files -------------------------------------------------------------------------------
 
 
-def _decoding(path: Path) -> str:
-    """'utf-8-sig' or 'cp1252': the first that decodes the whole file, read in chunks."""
+def _decoding(path: Path, data: _Text | None = None) -> str:
+    """'utf-8-sig' or 'cp1252': the first that decodes the whole file, in chunks.
+
+    ``data``: the file's bytes if already read (the text check reads them once for all its
+    checks); else the file is read a chunk at a time. Either way the chunks are the same, so
+    the same first problem (NUL bytes or undecodable text) is the one reported.
+    """
     for enc in ("utf-8-sig", "cp1252"):
         dec = codecs.getincrementaldecoder(enc)()
         try:
-            with path.open("rb") as fh:
-                while chunk := fh.read(_CHUNK):
-                    if b"\x00" in chunk:
-                        raise FileReadError(
-                            f"{path.name}: not a text file: it holds NUL bytes, as binary data "
-                            "does; expected delimited text (CSV or TSV)")
-                    dec.decode(chunk)
-                dec.decode(b"", True)
+            for chunk, nul in _chunks(path, data):
+                if nul:
+                    raise FileReadError(
+                        f"{path.name}: not a text file: it holds NUL bytes, as binary data "
+                        "does; expected delimited text (CSV or TSV)")
+                dec.decode(chunk)
+            dec.decode(b"", True)
         except UnicodeDecodeError:
             continue
         return enc
@@ -589,13 +598,50 @@ def _decoding(path: Path) -> str:
                         "UTF-8 nor Windows-1252; save it again as 'CSV UTF-8'")
 
 
+def _chunks(path: Path, data: _Text | None) -> Iterator[tuple[memoryview | bytes, bool]]:
+    """The file's bytes ``_CHUNK`` at a time, each with whether it holds a NUL byte: from
+    ``data`` (views, no copies; one search finds the first NUL), or read from the file."""
+    if data is not None:
+        nul = data.find(b"\x00")
+        view = memoryview(data)
+        for a in range(0, len(data), _CHUNK):
+            yield view[a:a + _CHUNK], a <= nul < a + _CHUNK
+        return
+    with path.open("rb") as fh:
+        while chunk := fh.read(_CHUNK):
+            yield chunk, b"\x00" in chunk
+
+
+def _mapped(path: Path) -> _Text:
+    """The whole file as bytes without copying it (mapped from the operating system's file
+    cache); an empty file as empty bytes, which cannot be mapped."""
+    with path.open("rb") as fh:
+        if not os.fstat(fh.fileno()).st_size:
+            return b""
+        return mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ)  # stays valid once closed
+
+
 def _check_text(path: Path, lim: Limits, delimiter: str | None) -> list[str]:
+    """Size, encoding, row count, widths and separators of a text file (see the module)."""
     name = path.name
     size = path.stat().st_size
     if size > lim.max_text_mb * _MB:
         raise _too_big(name, f"the file is {size / _MB:,.0f} MB", "max_text_mb",
                        lim.max_text_mb, " MB", "the whole text is read into memory")
-    enc = _decoding(path)
+    data = _mapped(path)  # once, for the encoding and the line scan
+    try:
+        return _check_text_bytes(path, lim, delimiter, data)
+    finally:
+        if isinstance(data, mmap.mmap):  # unmapped now, not whenever it is collected
+            with contextlib.suppress(BufferError):  # a view kept alive by an error's traceback
+                data.close()
+
+
+def _check_text_bytes(path: Path, lim: Limits, delimiter: str | None,
+                      data: _Text) -> list[str]:
+    """The checks of a text file within the size limit, on its bytes ``data``."""
+    name = path.name
+    enc = _decoding(path, data)
     notes = [] if enc == "utf-8-sig" else [
         f"{name}: not UTF-8; read as Windows-1252 (Western European)"]
     with path.open("r", encoding=enc, newline="") as fh:
@@ -609,7 +655,7 @@ def _check_text(path: Path, lim: Limits, delimiter: str | None) -> list[str]:
         raise _unsplittable(name, None, exc) from exc
     typical = max(widths, key=lambda w: (widths[w], w)) if widths else 0
     scan = _RowScan(typical, delimiter, lim)
-    lines = _Lines.read(path, enc, delimiter)
+    lines = _Lines.read(path, enc, delimiter, data)
     try:
         if lines is None:
             _scan_with_csv(path, enc, scan)
@@ -717,6 +763,8 @@ def _scan_with_csv(path: Path, enc: str, scan: _RowScan) -> None:
 _SPLIT_CHUNK = 16 * _MB  # bytes compared at a time: temporary masks stay this small
 _QUOTE_CHUNK = _MB  # bytes at a time where quotes are looked up: they stay in cache
 _QUOTE_STEP = 1 << 20  # quotes checked at a time
+_BLOCK = 256 * 1024  # bytes of whole lines the fast scan takes at a time: they stay in cache
+_EMPTY = np.zeros(0, dtype=np.int64)
 
 
 @dataclass
@@ -729,53 +777,185 @@ class _Lines:
     bytes counts characters.
     """
 
-    data: bytes
+    data: _Text
     enc: str
     starts: np.ndarray  # first byte of each line
     stops: np.ndarray  # end of each line's text, before its line break
     nexts: np.ndarray  # first byte after each line's line break
     seps: np.ndarray  # separators on each line
     quoted: np.ndarray  # lines holding a quote character, ascending
+    skip: int = 0  # bytes of ``data`` before the first line (a byte order mark)
 
     @classmethod
-    def read(cls, path: Path, enc: str, delimiter: str) -> _Lines | None:
+    def read(cls, path: Path, enc: str, delimiter: str, data: _Text | None = None, *,
+             exact: bool = False) -> _Lines | None:
         """None where counting cannot stand for the csv module (a line longer than the
-        csv field limit, or a separator that is not one ASCII character)."""
+        csv field limit, or a separator that is not one ASCII character).
+
+        ``data``: the file's bytes if already read. The lines are found block by block
+        (:func:`_fast_counts`); ``exact`` looks at every quote of the file instead, the way
+        the fast scan falls back to for a block it cannot decide (kept as its reference).
+        """
         if len(delimiter) != 1 or not delimiter.isascii() or delimiter in "\r\n\"":
             return None
-        data = path.read_bytes()
-        if enc == "utf-8-sig" and data.startswith(codecs.BOM_UTF8):
-            data = data[len(codecs.BOM_UTF8):]
-        arr = np.frombuffer(data, dtype=np.uint8)
+        if data is None:
+            data = path.read_bytes()
+        bom = codecs.BOM_UTF8
+        skip = len(bom) if enc == "utf-8-sig" and data[:len(bom)] == bom else 0
+        arr = np.frombuffer(data, dtype=np.uint8)[skip:]  # a view: no copy of the text
         n = len(arr)
         if n == 0:
-            none = np.zeros(0, dtype=np.int64)
-            return cls(data, enc, none, none, none, none, none)
-        lf = _where(arr, ord("\n"))
-        if b"\r" in data:
-            cr = _where(arr, ord("\r"))
-            lone = cr[(cr + 1 >= n) | (arr[np.minimum(cr + 1, n - 1)] != ord("\n"))]
-            breaks = np.union1d(lf, lone)
+            return cls(data, enc, _EMPTY, _EMPTY, _EMPTY, _EMPTY, _EMPTY, skip)
+        byte = ord(delimiter)
+        has_cr = data.find(b"\r") >= 0
+        if exact:
+            breaks, seps, quoted = _exact_counts(arr, has_cr, byte)
         else:
-            breaks = lf
-        nexts = breaks + 1
-        if not len(breaks) or nexts[-1] < n:
-            nexts = np.append(nexts, n)  # a last line without a line break
-            breaks = np.append(breaks, n)
+            breaks, seps, quoted = _fast_counts(arr, data, skip, byte, has_cr)
+        nexts = np.minimum(breaks + 1, n)  # a last line without a line break "breaks" at n
         starts = np.concatenate(([0], nexts[:-1])).astype(np.int64)
-        crlf = (breaks < n) & (breaks > starts)
-        crlf[crlf] = arr[breaks[crlf] - 1] == ord("\r")
-        stops = breaks - crlf
-        if n and int((stops - starts).max(initial=0)) > csv.field_size_limit():
+        stops = breaks
+        if has_cr:  # a CR LF line ends before its CR
+            crlf = (breaks < n) & (breaks > starts)
+            crlf[crlf] = arr[breaks[crlf] - 1] == ord("\r")
+            stops = breaks - crlf
+        if int((stops - starts).max(initial=0)) > csv.field_size_limit():
             return None
-        quotes = _where(arr, ord('"')) if b'"' in data else np.zeros(0, dtype=np.int64)
-        quoted, odd = _quoted_lines(arr, quotes, breaks, ord(delimiter))
-        seps = _per_line(arr, ord(delimiter), breaks, quotes, odd)
-        return cls(data, enc, starts, stops, nexts, seps, quoted)
+        return cls(data, enc, starts, stops, nexts, seps, quoted, skip)
 
     def text(self, i: int) -> str:
         """Line i with its line break, decoded."""
-        return self.data[self.starts[i]:self.nexts[i]].decode(self.enc)
+        return self.data[self.skip + self.starts[i]:self.skip + self.nexts[i]].decode(self.enc)
+
+
+def _line_breaks(arr: np.ndarray, has_cr: bool) -> np.ndarray:
+    """Where each line ends (its LF, its lone CR, or ``len(arr)`` for a last line without
+    a line break), ascending."""
+    n = len(arr)
+    lf = _where(arr, ord("\n"))
+    if has_cr:
+        cr = _where(arr, ord("\r"))
+        lone = cr[(cr + 1 >= n) | (arr[np.minimum(cr + 1, n - 1)] != ord("\n"))]
+        breaks = np.union1d(lf, lone)
+    else:
+        breaks = lf
+    if not len(breaks) or breaks[-1] + 1 < n:
+        breaks = np.append(breaks, n)  # a last line without a line break
+    return breaks.astype(np.int64)
+
+
+def _exact_counts(arr: np.ndarray, has_cr: bool,
+                  delimiter: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Line breaks, separators per line and the lines the csv module must split, from every
+    quote of ``arr`` (whole lines): exact for any text, but slow where most fields are quoted.
+    """
+    breaks = _line_breaks(arr, has_cr)
+    quotes = _where(arr, ord('"'))
+    quoted, odd = _quoted_lines(arr, quotes, breaks, delimiter)
+    return breaks, _per_line(arr, delimiter, breaks, quotes, odd), quoted
+
+
+def _fast_counts(arr: np.ndarray, data: _Text, skip: int, delimiter: int,
+                 has_cr: bool) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """As :func:`_exact_counts`, a block of whole lines (about ``_BLOCK`` bytes) at a time.
+
+    Work goes with the separators and line breaks, not with the quotes: a block where every
+    quote is the first or the last byte of a field and every field starting with a quote
+    ends with one is counted from its separators alone (:func:`_block_counts`); any other
+    block goes through :func:`_exact_counts`. Every line is judged on its own bytes either
+    way, so the blocks give the same answer as the whole text at once.
+    """
+    n = len(arr)
+    breaks, seps, quoted = [], [], []
+    a = lines = 0
+    scratch = (np.empty(0, dtype=bool), np.empty(0, dtype=bool))
+    while a < n:
+        b = _block_end(data, skip, a + _BLOCK, n, has_cr)
+        if len(scratch[0]) < b - a + 1:  # a block ends a line: it may run past _BLOCK
+            scratch = (np.empty(2 * (b - a) + 1, dtype=bool), np.empty(2 * (b - a) + 1, dtype=bool))
+        brk, sep, quo = _block_counts(arr, a, b, delimiter, has_cr, scratch)
+        breaks.append(brk + a)
+        seps.append(sep)
+        quoted.append(quo + lines)
+        lines += len(brk)
+        a = b
+    return (np.concatenate(breaks), np.concatenate(seps).astype(np.int64),
+            np.concatenate(quoted).astype(np.int64))
+
+
+def _block_end(data: _Text, skip: int, at: int, n: int, has_cr: bool) -> int:
+    """End of the block reaching byte ``at``: just after the first line break from there on.
+
+    An LF always ends a line; a CR with no LF after it anywhere is a lone CR, which does too.
+    """
+    end = data.find(b"\n", skip + at)
+    if end < 0 and has_cr:
+        end = data.find(b"\r", skip + at)
+    return n if end < 0 else end - skip + 1
+
+
+def _block_counts(arr: np.ndarray, a: int, b: int, delimiter: int, has_cr: bool,
+                  scratch: tuple[np.ndarray, np.ndarray]
+                  ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Line breaks (from ``a``), separators per line and lines for the csv module (from the
+    block's first line) of the whole lines ``arr[a:b]``; ``scratch``: two boolean arrays at
+    least as long as the block, reused from block to block (no fresh memory each time).
+
+    The bytes next to each separator and line break tell whether the fields between them
+    open and close their quotes plainly (:func:`_plain_quotes`); then no separator is inside
+    quotes and no line needs the csv module.
+    """
+    n = len(arr)
+    if a == 0 or b == n:  # the neighbours beyond the text: no quote, no line feed
+        tail = [ord("\n")] if b == n and arr[n - 1] not in (ord("\n"), ord("\r")) else []
+        pad = np.concatenate(([0], arr[a:b], tail, [0])).astype(np.uint8)
+        blk, before, after = pad[1:-1], pad[:-2], pad[2:]  # tail: a last line without a break
+    else:
+        blk, before, after = arr[a:b], arr[a - 1:b - 1], arr[a + 1:b + 1]
+    edge, same = scratch[0][:len(blk)], scratch[1][:len(blk)]
+    np.equal(blk, delimiter, out=edge)
+    edge |= np.equal(blk, ord("\n"), out=same)
+    if has_cr:
+        edge |= np.equal(blk, ord("\r"), out=same)
+    at = np.flatnonzero(edge)  # separators and line-break bytes, ascending
+    byte, next_byte = blk[at], after[at]
+    ends = byte == ord("\n")
+    if has_cr:
+        ends |= (byte == ord("\r")) & (next_byte != ord("\n"))
+    line_ends = np.flatnonzero(ends)  # index in ``at`` of each line's break
+    seps = np.empty(len(line_ends), dtype=np.int64)  # boundaries between line breaks
+    seps[:1] = line_ends[:1]
+    np.subtract(line_ends[1:], line_ends[:-1] + 1, out=seps[1:])
+    if has_cr:  # the CR of a CR LF stands just before its LF and is no separator
+        inner = (byte == ord("\r")) & ~ends
+        seps -= inner[np.maximum(line_ends - 1, 0)] & (line_ends > 0)
+    breaks = at[line_ends]
+    n_quotes = int(np.count_nonzero(np.equal(blk, ord('"'), out=same)))
+    if n_quotes and not _plain_quotes(blk, at, before[at] == ord('"'),
+                                      next_byte == ord('"'), n_quotes):
+        part = arr[a:b]
+        quotes = _where(part, ord('"'))
+        quoted, odd = _quoted_lines(part, quotes, breaks, delimiter)
+        return breaks, _per_line(part, delimiter, breaks, quotes, odd), quoted
+    return breaks, seps, _EMPTY
+
+
+def _plain_quotes(blk: np.ndarray, at: np.ndarray, closes: np.ndarray, opens: np.ndarray,
+                  n_quotes: int) -> bool:
+    """Whether every quote of the block opens or closes a field the plainest way.
+
+    ``at``: the separators and line-break bytes, the last one ending the block; ``closes``:
+    a quote stands just before each; ``opens``: one just after. Field k ends at ``at[k]``. It
+    holds: each field starts with a quote exactly when it ends with another, and no quote
+    stands elsewhere (the quotes at field edges add up to all quotes, none a field of its
+    own). Then, as for the csv module, each quoted field opens after a separator or a line
+    break and closes before one, and no separator is inside quotes: counting is exact.
+    """
+    first = bool(blk[0] == ord('"'))
+    if first != closes[0] or not np.array_equal(opens[:-1], closes[1:]):
+        return False  # some field starts with a quote but does not end with one, or back
+    lone = (first and at[0] == 1) or bool(np.any(opens[:-1] & (at[1:] - at[:-1] == 2)))
+    return not lone and 2 * int(np.count_nonzero(closes)) == n_quotes
 
 
 def _where(arr: np.ndarray, byte: int) -> np.ndarray:
