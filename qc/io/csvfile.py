@@ -160,7 +160,12 @@ def _text_columns(columns: list[pa.ChunkedArray] | list[pa.Array],
             return None
         enc = arr.dictionary_encode()
         values = enc.dictionary.to_numpy(zero_copy_only=False)
-        blank = np.fromiter((not v.strip() for v in values), dtype=bool, count=len(values))
+        # a value that starts with a visible ASCII character is not blank; the rest (empty,
+        # a space first, anything non-ASCII) are judged by str.strip, as Grid.blank does
+        maybe = np.flatnonzero(~pc.match_substring_regex(enc.dictionary, "^[!-~]")
+                               .to_numpy(zero_copy_only=False))
+        blank = np.zeros(len(values), dtype=bool)
+        blank[maybe] = [not values[i].strip() for i in maybe.tolist()]
         codes = enc.indices.to_numpy(zero_copy_only=False)
         out.append((values[codes], blank[codes]))
     return out

@@ -19,7 +19,14 @@ import pytest
 
 from qc.errors import OutputError
 from qc.export import write_results
-from qc.io.csvfile import FIRST_CHUNK_ROWS, NotStreamable, _PacedFile, stream_delimited
+from qc.io.csvfile import (
+    FIRST_CHUNK_ROWS,
+    NotStreamable,
+    _PacedFile,
+    _text_columns,
+    stream_delimited,
+)
+from qc.io.grid import Grid
 from qc.io.reader import read_inspection_chunks
 from qc.pipeline import evaluate_file
 from qc.streaming import StreamedRun, evaluate_to_table
@@ -243,3 +250,14 @@ def test_the_paced_file_holds_the_reader_back_until_allowed(
     paced.close()  # closing lets the reader finish (reads past the end are empty)
     reader.join(5)
     assert not reader.is_alive()
+
+
+def test_blank_cells_are_judged_as_str_strip_judges_them() -> None:
+    # Python's str.isspace: ASCII whitespace, the separators \x1c–\x1f, NBSP, U+3000, U+2028 …
+    values = ["", " ", "\u00a0", "a", " a", "\x1c", "é", "\u3000x", "12.5", "\t\r", "\u2028",
+              "\u3000", "-", "\u200b"]
+    (cells, blank), = _text_columns([pa.array(values * 3)])
+    assert cells.tolist() == values * 3
+    assert blank.tolist() == [not v.strip() for v in values] * 3
+    grid = Grid(file="x.csv", sheet=None, cells=cells.reshape(-1, 1))
+    assert grid.blank()[:, 0].tolist() == blank.tolist()  # the grid's own rule
