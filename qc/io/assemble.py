@@ -17,6 +17,7 @@ from collections.abc import Callable
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
 
 from qc.errors import CellError, ConfigError, Place
 from qc.io.headers import header_key, load_synonyms
@@ -24,7 +25,15 @@ from qc.io.mpe import parse_mpe
 from qc.io.raw import RawTable
 from qc.io.register import Register
 from qc.io.resolve import general_tolerances, material_cte, parse_tolerances
-from qc.io.values import Problem, is_blank, parse_dates, parse_numbers, parse_texts
+from qc.io.values import (
+    Coded,
+    Problem,
+    is_blank,
+    joint_codes,
+    parse_dates,
+    parse_numbers,
+    parse_texts_coded,
+)
 from qc.models import InspectionRecord, Layout, RowError, bounds, field_message
 from qc.units import (
     canonical_unit,
@@ -95,7 +104,7 @@ def _per_distinct(values: np.ndarray, fn: Callable[[object], object],
         np.empty(0, dtype=dtype))
 
 
-def _map_units(values: np.ndarray, kind: str) -> tuple[np.ndarray, dict[str, None]]:
+def _map_units(values: Coded, kind: str) -> tuple[Coded, dict[str, None]]:
     """Canonical unit per cell of a unit column; unknown spellings returned separately."""
     bad: dict[str, None] = {}
 
@@ -109,13 +118,22 @@ def _map_units(values: np.ndarray, kind: str) -> tuple[np.ndarray, dict[str, Non
             bad[text] = None  # type: ignore[index]
         return u
 
-    out = _per_distinct(values, unit_of)
-    return out, bad
+    return values.recode(unit_of), bad
 
 
-def _factor(units: np.ndarray) -> np.ndarray:
-    """mm per unit for an object array of length units (degrees count as 1: angles kept)."""
-    return _per_distinct(units, lambda u: 1.0 if u == "degree" else length_factor(u), float)
+def _factor_of(u: object) -> float:
+    """mm per length unit (degrees count as 1: angles kept)."""
+    return 1.0 if u == "degree" else length_factor(u)  # type: ignore[arg-type]
+
+
+def _row_units(cell_units: np.ndarray, header: str | None, base: Coded) -> Coded:
+    """Unit of each cell: the one written in the cell, else the header's, else ``base``."""
+    n = len(cell_units)
+    fallback = base if header is None else Coded.constant(header, n)
+    given = np.flatnonzero(pd.notna(cell_units))
+    if not len(given):
+        return fallback
+    return fallback.put(given, Coded.of(cell_units[given]))
 
 
 def _choose(*arrays: np.ndarray) -> np.ndarray:
@@ -152,47 +170,47 @@ def assemble(raw: RawTable, layout: Layout, *, decimal: str = ".",
         u = canonical_unit(spelled, kind)  # type: ignore[arg-type]
         return u, u is not None
 
-    text: dict[str, np.ndarray] = {}
+    # text columns stay coded (distinct texts + one code per row) up to the frame
+    text: dict[str, Coded] = {}
     for f in TEXT_FIELDS:
         if not raw.has(f):
-            text[f] = np.full(n, "", dtype=object)
+            text[f] = Coded.constant("", n)
             continue
-        text[f], pr = parse_texts(raw.get(f))
+        text[f], pr = parse_texts_coded(raw.get(f))
         err.take(pr, f)
 
     # the row's length and temperature units
     unit_col, bad_units = _map_units(text["unit"], "length")
-    for i in np.flatnonzero(pd.Series(text["unit"]).isin(list(bad_units)).to_numpy()):
+    for i in np.flatnonzero(text["unit"].each(lambda v: v in bad_units, bool)):
         err.add(i, "unit", text["unit"][i], "a length unit (mm, µm, in, thou)")
     temp_col, bad_t = _map_units(text["temp_unit"], "temperature")
-    for i in np.flatnonzero(pd.Series(text["temp_unit"]).isin(list(bad_t)).to_numpy()):
+    for i in np.flatnonzero(text["temp_unit"].each(lambda v: v in bad_t, bool)):
         err.add(i, "temp_unit", text["temp_unit"][i], "a temperature unit (°C, °F, K)")
     # a unit in the reading's (else the nominal's) header applies to the row's other lengths
     hdr_len = [header_unit(f, "length")[0] for f in (*raw.reading_fields(), "nominal",
                                                      "lower_limit", "upper_limit")]
     hdr_len = next((u for u in hdr_len if u), None)
-    base_len = _choose(unit_col, np.full(n, hdr_len or default_len, dtype=object))
-    base_temp = _choose(temp_col, np.full(n, default_temp, dtype=object))
+    base_len = unit_col.recode(lambda u: (hdr_len or default_len) if u is None else u)
+    base_temp = temp_col.recode(lambda u: default_temp if u is None else u)
 
     def header_problem(f: str, kind_word: str) -> None:
         for i in np.flatnonzero(~is_blank(raw.get(f))):
             err.add(i, f, raw.get(f)[i], f"{kind_word} in the header",
                     f"the unit {raw.header_units[f]!r} written in the header is not known")
 
-    def lengths(f: str, *, multi: bool = False, allow_pm: bool = False,
-                ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        """Values in mm (n × k), the unit of each cell, and the count of values per cell."""
+    def lengths(f: str, *, multi: bool = False, allow_pm: bool = False) -> np.ndarray:
+        """Values in mm (n × k)."""
         if not raw.has(f):
-            return np.full((n, 1), np.nan), np.full(n, None, dtype=object), np.zeros(n, int)
+            return np.full((n, 1), np.nan)
         p = parse_numbers(raw.get(f), kind="length", decimal=decimal, thousands=thousands,
                           multi=multi, allow_pm=allow_pm)
         err.take(p.problems, f)
         hu, ok = header_unit(f, "length")
         if not ok:
             header_problem(f, "a length unit (mm, µm, in, thou)")
-            return np.full(p.values.shape, np.nan), p.units, np.zeros(n, dtype=np.int64)
-        units = _choose(p.units, np.full(n, hu, dtype=object), base_len)
-        return p.values * _factor(units)[:, None], units, p.counts
+            return np.full(p.values.shape, np.nan)
+        units = _row_units(p.units, hu, base_len)
+        return p.values * units.each(_factor_of, float)[:, None]
 
     def temps(f: str, difference: bool = False) -> np.ndarray:
         if not raw.has(f):
@@ -203,12 +221,15 @@ def assemble(raw: RawTable, layout: Layout, *, decimal: str = ".",
         if not ok:
             header_problem(f, "a temperature unit (°C, °F, K)")
             return np.full(n, np.nan)
-        units = _choose(p.units, np.full(n, hu, dtype=object), base_temp)
+        units = _row_units(p.units, hu, base_temp)
+        value_codes, distinct = pd.factorize(units.values)  # equal units: one conversion
+        codes = value_codes[units.codes]
         out = np.full(n, np.nan)
         conv = temperature_difference_to_c if difference else temperature_to_c
-        for u in pd.unique(pd.Series(units, dtype=object)):
-            m = units == u
-            out[m] = conv(p.first[m], u)
+        for j, u in enumerate(distinct):
+            m = codes == j
+            if m.any():
+                out[m] = conv(p.first[m], u)
         return out
 
     def numbers(f: str) -> np.ndarray:
@@ -244,7 +265,7 @@ def assemble(raw: RawTable, layout: Layout, *, decimal: str = ".",
     blocks, bad_rows = [], np.zeros(n, dtype=bool)
     for f in reading_fields:
         before = set(err.rows)
-        v, _, _ = lengths(f, multi=True)
+        v = lengths(f, multi=True)
         bad_rows[list(err.rows - before)] = True
         blocks.append(v)
     allv = np.hstack(blocks) if blocks else np.full((n, 1), np.nan)
@@ -262,17 +283,17 @@ def assemble(raw: RawTable, layout: Layout, *, decimal: str = ".",
         err.add(i, first_field, "", "a reading", column_of=first_field)
 
     row_unit = base_len
-    angle_rows = row_unit == "degree"
+    angle_rows = row_unit.is_("degree")
 
     # --- nominal and tolerance
-    nominal = lengths("nominal")[0][:, 0]
-    lower = lengths("lower_limit")[0][:, 0]
-    upper = lengths("upper_limit")[0][:, 0]
-    ldev = lengths("lower_deviation")[0][:, 0]
-    udev = lengths("upper_deviation")[0][:, 0]
+    nominal = lengths("nominal")[:, 0]
+    lower = lengths("lower_limit")[:, 0]
+    upper = lengths("upper_limit")[:, 0]
+    ldev = lengths("lower_deviation")[:, 0]
+    udev = lengths("upper_deviation")[:, 0]
     if "minus" in header_key(str(raw.headers.get("lower_deviation", ""))):
         ldev = -np.abs(ldev)  # a '−Tol' column holds the size of the lower deviation
-    tol_desc = np.full(n, "", dtype=object)
+    tol_desc = Coded.constant("", n)
     from_limits = np.isfinite(lower) | np.isfinite(upper)
     devs = ~from_limits & (np.isfinite(ldev) | np.isfinite(udev))
     for i in np.flatnonzero(devs & ~np.isfinite(nominal)):
@@ -290,50 +311,50 @@ def assemble(raw: RawTable, layout: Layout, *, decimal: str = ".",
     lower[inverted] = np.nan
     upper[inverted] = np.nan
     tol_text = text["tolerance"]
-    feature = np.full(n, None, dtype=object)
-    codes, distinct = pd.factorize(text["hole_or_shaft"], use_na_sentinel=False)
-    for j, t in enumerate(distinct):
-        if t == "":
-            continue
-        rows = codes == j
-        f = _FEATURES.get(t.lower())
-        if f is None:
-            for i in np.flatnonzero(rows):
+    hole_or_shaft = text["hole_or_shaft"]
+    feature = hole_or_shaft.recode(lambda t: None if t == "" else _FEATURES.get(t.lower()))
+    for j in hole_or_shaft.in_use():
+        t = hole_or_shaft.values[j]
+        if t != "" and feature.values[j] is None:
+            for i in np.flatnonzero(hole_or_shaft.codes == j):
                 err.add(i, "hole_or_shaft", t, "hole or shaft")
-        feature[rows] = f
-    use_text = ~from_limits & ~devs & (tol_text != "")
+    tol_blank = tol_text.is_("")
+    use_text = ~from_limits & ~devs & ~tol_blank
     if use_text.any():
         idx = np.flatnonzero(use_text)
+        tol_hu = header_unit("tolerance", "length")[0]
+        tol_units = Coded.constant("millimeter", n).where(
+            angle_rows, Coded.constant(tol_hu, n) if tol_hu else row_unit).take(idx)
         try:
             lo, hi, nom, desc, pr = parse_tolerances(
-                tol_text[idx], nominal[idx], feature[idx],
-                np.where(angle_rows[idx], "millimeter",
-                         header_unit("tolerance", "length")[0] or row_unit[idx]), decimal)
+                tol_text.take(idx), nominal[idx], feature.take(idx), tol_units, decimal)
         except ImportError:
             lo = hi = nom = np.full(len(idx), np.nan)
-            desc = np.full(len(idx), "", dtype=object)
+            desc = Coded.constant("", len(idx))
             pr = {j: Problem(tol_text[i], "a tolerance limit pair",
                              "tolerance notations cannot be read in this installation")
                   for j, i in enumerate(idx)}
         lower[idx], upper[idx] = lo, hi
         nominal[idx] = np.where(np.isfinite(nominal[idx]), nominal[idx], nom)
-        tol_desc[idx] = desc
+        tol_desc = tol_desc.put(idx, desc)
         err.take({int(idx[j]): p for j, p in pr.items()}, "tolerance")
-    classes = np.where(text["general_tolerance"] != "", text["general_tolerance"],
-                       d.general_tolerance or "")
-    need_general = ~from_limits & ~devs & (tol_text == "") & (classes != "") & ~angle_rows
+    classes = text["general_tolerance"].recode(
+        lambda c: c if c != "" else d.general_tolerance or "")
+    no_class = classes.is_("")
+    need_general = ~from_limits & ~devs & tol_blank & ~no_class & ~angle_rows
     if need_general.any():
         idx = np.flatnonzero(need_general)
-        gt = general_tolerances(nominal[idx], classes[idx].astype(object))
+        gt = general_tolerances(nominal[idx], classes.take(idx))
         lower[idx] = nominal[idx] - gt.half
         upper[idx] = nominal[idx] + gt.half
-        tol_desc[idx] = [f"ISO 2768-{c}: ±{h:g} mm" if math.isfinite(h) else ""
-                         for c, h in zip(classes[idx], gt.half, strict=True)]
+        tol_desc = tol_desc.put(idx, _general_descriptions(classes.take(idx), gt.half))
         err.take({int(idx[j]): p for j, p in gt.problems.items()}, "general_tolerance",
                  column_of="general_tolerance" if raw.has("general_tolerance") else "nominal")
     # angle rows get no ISO 2768-1 general tolerance here (Table 3 needs the shorter leg)
-    no_tol = ~from_limits & ~devs & (tol_text == "") & ((classes == "") | angle_rows)
-    for i in np.flatnonzero(no_tol & ~np.isin(np.arange(n), list(err.rows))):
+    no_tol = ~from_limits & ~devs & tol_blank & (no_class | angle_rows)
+    has_error = np.zeros(n, dtype=bool)
+    has_error[list(err.rows)] = True
+    for i in np.flatnonzero(no_tol & ~has_error):
         err.add(i, "tolerance", "", "a tolerance, limits or a general tolerance class",
                 "give one in the sheet or set defaults.general_tolerance in the layout file",
                 column_of="tolerance" if raw.has("tolerance") else first_field)
@@ -357,33 +378,38 @@ def assemble(raw: RawTable, layout: Layout, *, decimal: str = ".",
     u_gauge = np.where(np.isfinite(u_gauge), u_gauge, acc / math.sqrt(3))
     shared = (~np.isfinite(gauge_t) & np.isfinite(part_t)) | (gauge_t == part_t)
     if raw.has("shared_room"):
-        flag = pd.Series(text["shared_room"], dtype=object).str.lower()
-        yes, no = flag.isin(_YES).to_numpy(), flag.isin(_NO).to_numpy()
+        flag = text["shared_room"]
+        yes = flag.each(lambda v: str(v).lower() in _YES, bool)
+        no = flag.each(lambda v: str(v).lower() in _NO, bool)
         for i in np.flatnonzero(~yes & ~no):
-            err.add(i, "shared_room", text["shared_room"][i], "yes or no")
-        shared = np.where(yes, True, np.where(flag.to_numpy() == "", shared, False))
+            err.add(i, "shared_room", flag[i], "yes or no")
+        empty = flag.each(lambda v: str(v).lower() == "", bool)
+        shared = np.where(yes, True, np.where(empty, shared, False))
 
     # --- instruments
     inst = text["instrument"]
-    resolution = lengths("resolution")[0][:, 0]
-    mpe_units = np.where(angle_rows, default_len, row_unit)
-    hu, _ = header_unit("mpe", "length")
-    if hu:
-        mpe_units = np.full(n, hu, dtype=object)
-    mpe_a, mpe_k, pr = parse_mpe(raw.get("mpe"), mpe_units, decimal)
-    err.take(pr, "mpe")
-    cal_u = lengths("cal_u")[0][:, 0]
+    resolution = lengths("resolution")[:, 0]
+    if raw.has("mpe"):
+        mpe_units = np.where(angle_rows, default_len, row_unit.dense())
+        hu, _ = header_unit("mpe", "length")
+        if hu:
+            mpe_units = np.full(n, hu, dtype=object)
+        mpe_a, mpe_k, pr = parse_mpe(raw.get("mpe"), mpe_units, decimal)
+        err.take(pr, "mpe")
+    else:  # an all-blank MPE column reads as NaN without problems
+        mpe_a, mpe_k = np.full(n, np.nan), np.full(n, np.nan)
+    cal_u = lengths("cal_u")[:, 0]
     cal_k = numbers("cal_k")
-    inst_type = np.full(n, None, dtype=object)
-    gauge_mat = text["gauge_material"].copy()
+    inst_type = Coded.constant(None, n)
+    gauge_mat = text["gauge_material"]
     due = np.full(n, np.datetime64("NaT"), dtype="datetime64[D]")
-    if (inst != "").any():
-        _instruments(inst, register, err, resolution, mpe_a, mpe_k, cal_u, cal_k, inst_type,
-                     gauge_mat, due)
+    if not inst.is_("").all():
+        inst_type, gauge_mat, due = _instruments(inst, register, err, resolution, mpe_a, mpe_k,
+                                                 cal_u, cal_k, gauge_mat)
 
     # --- certificates and master
-    master = lengths("master_size")[0][:, 0]
-    master_u = lengths("master_u")[0][:, 0]
+    master = lengths("master_size")[:, 0]
+    master_u = lengths("master_u")[:, 0]
     master_k = numbers("master_k")
     for arr_u, arr_k, name in ((master_u, master_k, "master_u"), (cal_u, cal_k, "cal_u")):
         missing_k = np.isfinite(arr_u) & ~np.isfinite(arr_k)
@@ -397,20 +423,19 @@ def assemble(raw: RawTable, layout: Layout, *, decimal: str = ".",
     with np.errstate(invalid="ignore", divide="ignore"):
         master_u_std = master_u / master_k
         cal_u_std = np.where(np.isfinite(cal_u) & np.isfinite(cal_k), cal_u / cal_k, cal_u)
-    prior_sd = lengths("prior_sd")[0][:, 0]
+    prior_sd = lengths("prior_sd")[:, 0]
 
     # --- materials and CTE
-    part_mat = np.where(text["part_material"] != "", text["part_material"],
-                        d.part_material or "")
-    gauge_mat = np.where(gauge_mat != "", gauge_mat, d.gauge_material or "")
+    part_mat = text["part_material"].recode(lambda v: v if v != "" else d.part_material or "")
+    gauge_mat = gauge_mat.recode(lambda v: v if v != "" else d.gauge_material or "")
     part_cte, part_cte_u = ctes("part_cte"), ctes("part_cte_u")
     gauge_cte, gauge_cte_u = ctes("gauge_cte"), ctes("gauge_cte_u")
     for mats, cte, cte_u, f in ((part_mat, part_cte, part_cte_u, "part_material"),
                                 (gauge_mat, gauge_cte, gauge_cte_u, "gauge_material")):
-        need = ~np.isfinite(cte) & (mats != "")
+        need = ~np.isfinite(cte) & ~mats.is_("")
         if need.any():
             try:
-                m = material_cte(np.where(need, mats, "").astype(object))
+                m = material_cte(mats.where(need, Coded.constant("", n)))
             except ImportError:
                 m = None
                 for i in np.flatnonzero(need):
@@ -427,26 +452,26 @@ def assemble(raw: RawTable, layout: Layout, *, decimal: str = ".",
     measured, pr = parse_dates(raw.get("measured_at"), date_order=layout.date_order)
     err.take(pr, "measured_at")
     unscaled = set(load_synonyms().unscaled_kinds)
-    unscaled_kind = _per_distinct(
-        text["kind"], lambda k: isinstance(k, str) and k.lower().strip() in unscaled, bool)
+    unscaled_kind = text["kind"].each(
+        lambda k: isinstance(k, str) and k.lower().strip() in unscaled, bool)
     scaled = ~(unscaled_kind | angle_rows)
-    mode = np.where(np.isfinite(master), "comparison", "direct")
+    comparison = np.isfinite(master)
 
-    flags = np.full(n, "", dtype=object)
+    overdue = np.zeros(n, dtype=bool)
     has_due = ~np.isnat(due)
     if has_due.any():
         mday = measured.astype("datetime64[D]")
         overdue = has_due & ~np.isnat(mday) & (mday > due)
-        flags[overdue] = FLAG_OVERDUE
         undated = has_due & np.isnat(mday)
         if undated.any():
             notes.append(f"{int(undated.sum())} row(s) without a measurement date: calibration "
                          "due dates not checked for them")
 
+    source_column = raw.letters.get(first_field) if reading_fields else None
     columns = {
         "part": text["part"], "characteristic": text["characteristic"],
         "kind": text["kind"], "feature": feature,
-        "unit": _per_distinct(row_unit, _unit_label),
+        "unit": row_unit.recode(_unit_label),
         "nominal_mm": nominal, "lower_limit_mm": lower, "upper_limit_mm": upper,
         "tolerance_text": tol_text, "tolerance_description": tol_desc,
         "reading_mean_mm": mean, "reading_sd_mm": sd, "n_readings": n_read,
@@ -458,17 +483,75 @@ def assemble(raw: RawTable, layout: Layout, *, decimal: str = ".",
         "part_cte": part_cte, "part_cte_u": part_cte_u,
         "gauge_cte": gauge_cte, "gauge_cte_u": gauge_cte_u,
         "part_material": part_mat, "gauge_material": gauge_mat,
-        "mode": mode, "scaled": scaled, "shared_room": shared.astype(bool),
+        "mode": (Coded(comparison.astype(np.intp), _objects(["direct", "comparison"]))
+                 if n else np.where(comparison, "comparison", "direct")),
+        "scaled": scaled, "shared_room": shared.astype(bool),
         "instrument": inst, "instrument_type": inst_type,
         "inspector": text["inspector"], "note": text["note"],
-        "measured_at": measured, "flags": flags,
-        "source_file": raw.file, "source_sheet": raw.sheet, "source_row": raw.rows,
-        "source_column": (raw.letters.get(first_field) if reading_fields else None),
+        "measured_at": measured,
+        "flags": Coded(overdue.astype(np.intp), _objects(["", FLAG_OVERDUE])),
+        "source_file": _scalar_column(raw.file, n), "source_sheet": _scalar_column(raw.sheet, n),
+        "source_row": raw.rows, "source_column": _scalar_column(source_column, n),
     }
     _check_bounds(columns, err)  # on the arrays: no column of a built frame is replaced
-    frame = pd.DataFrame(columns)
+    frame = pd.DataFrame({k: _text_column(v) if isinstance(v, Coded) else v
+                          for k, v in columns.items()})
     items = sorted(err.items, key=lambda e: (e.index, e.column or ""))
     return frame, items
+
+
+def _objects(items: list[object]) -> np.ndarray:
+    out = np.empty(len(items), dtype=object)
+    out[:] = items
+    return out
+
+
+def _general_descriptions(classes: Coded, half: np.ndarray) -> Coded:
+    """'ISO 2768-m: ±0.2 mm' per row, written once per distinct class and half-width."""
+    half_codes, _ = pd.factorize(half)  # NaN: code -1, shifted to a code of its own
+    combo, rep = joint_codes(classes.codes, half_codes + 1)
+    texts = [f"ISO 2768-{classes[r]}: ±{half[r]:g} mm" if math.isfinite(half[r]) else ""
+             for r in rep]
+    return Coded(combo, _objects(texts))
+
+
+def _scalar_column(value: object, n: int) -> object:
+    """A value for every row: as a coded column when it is text (the frame then builds it from
+    the codes), else as given for pandas to broadcast."""
+    if n and type(value) is str:
+        return Coded.constant(value, n)
+    return value
+
+
+#: the dtype pandas gives a column of Python strings (and None)
+_STR_DTYPE = pd.Series(np.array(["a", None], dtype=object)).dtype
+
+
+def _text_column(col: Coded) -> pd.Series | np.ndarray:
+    """A frame column from a coded one, of the dtype pandas infers from the dense column.
+
+    When every value in use is a string (or None) pandas makes a string column; that column is
+    built here from the distinct texts and the codes (one look-up per row in C) instead of
+    from a million Python strings. Anything else is left to pandas' inference as before.
+    """
+    n = len(col)
+    if not n or getattr(_STR_DTYPE, "storage", None) != "pyarrow":
+        return col.dense()
+    used = np.bincount(col.codes, minlength=len(col.values)) > 0
+    in_use = col.values[used]
+    strings = np.fromiter((type(v) is str for v in in_use), dtype=bool, count=len(in_use))
+    nulls = np.fromiter((v is None for v in in_use), dtype=bool, count=len(in_use))
+    if not strings.any() or not (strings | nulls).all():
+        return col.dense()
+    if len(in_use) == 1:  # one text on every row (a blank column, the file name)
+        constant = _repeated(in_use[0], n)
+        if constant is not None:
+            return pd.Series(pd.array(constant, dtype=_STR_DTYPE), copy=False)
+    none = np.fromiter((v is None for v in col.values), dtype=bool, count=len(col.values))
+    dictionary = pa.array([v if type(v) is str else "" for v in col.values],
+                          type=pa.large_string())
+    indices = pa.array(col.codes.astype(np.int32), mask=none[col.codes] if none.any() else None)
+    return pd.Series(pd.array(dictionary.take(indices), dtype=_STR_DTYPE), copy=False)
 
 
 def _unit_label(u: str) -> str:
@@ -483,7 +566,7 @@ def _check_bounds(columns: dict[str, np.ndarray], err: _Errors) -> None:
         b = bounds(InspectionRecord, col)
         if not b:
             continue
-        v = np.array(columns[col], dtype=float)  # a copy
+        v = np.asarray(columns[col], dtype=float)
         fin = np.isfinite(v)
         bad = np.zeros(len(v), dtype=bool)
         if "ge" in b:
@@ -494,6 +577,10 @@ def _check_bounds(columns: dict[str, np.ndarray], err: _Errors) -> None:
             bad |= fin & (v > b["le"])
         if "lt" in b:
             bad |= fin & (v >= b["lt"])
+        if not bad.any():  # the usual case: the column goes to the frame as it is
+            columns[col] = v
+            continue
+        v = v.copy()  # NaN goes into a copy: the array may be shared with another column
         for i in np.flatnonzero(bad):
             msg = field_message(InspectionRecord, col, float(v[i])) or "a plausible value"
             words = _BOUND_WORDS.get(col, col.replace("_", " "))
@@ -506,68 +593,86 @@ def _check_bounds(columns: dict[str, np.ndarray], err: _Errors) -> None:
         columns[col] = v
 
 
-def _instruments(inst: np.ndarray, register: Register | None, err: _Errors,
+def _instruments(inst: Coded, register: Register | None, err: _Errors,
                  resolution: np.ndarray, mpe_a: np.ndarray, mpe_k: np.ndarray,
-                 cal_u: np.ndarray, cal_k: np.ndarray, inst_type: np.ndarray,
-                 gauge_mat: np.ndarray, due: np.ndarray) -> None:
-    """Fill instrument data from the register (by id) or the instrument-type library."""
+                 cal_u: np.ndarray, cal_k: np.ndarray, gauge_mat: Coded,
+                 ) -> tuple[Coded, Coded, np.ndarray]:
+    """Fill instrument data from the register (by id) or the instrument-type library.
+
+    Each distinct instrument name is looked up once; what it supplies goes into one table
+    entry per name, and the tables fill the rows' blanks in one step per quantity. Returns
+    the instrument type and gauge material per row and the calibration due dates.
+    """
     types = _type_library()
     known = list(register.entries) + list(register.invalid) if register else []
     if types is not None:
         known += list(types.names())
     lowered = {k.lower(): k for k in (register.entries if register else {})}
-    codes, distinct = pd.factorize(inst.astype(object), use_na_sentinel=False)
-    for j, name in enumerate(distinct):
+    k = len(inst.values)
+    res_t, cal_t = np.full(k, np.nan), np.full(k, np.nan)
+    mpe_a_t, mpe_k_t = np.full(k, np.nan), np.full(k, np.nan)
+    has_res, has_mpe, has_cal = np.zeros(k, bool), np.zeros(k, bool), np.zeros(k, bool)
+    type_t = np.full(k, None, dtype=object)
+    mat_t = np.full(k, None, dtype=object)  # None: the name brings no gauge material
+    due_t = np.full(k, np.datetime64("NaT"), dtype="datetime64[D]")
+    for j in inst.in_use():
+        name = inst.values[j]
         if name == "":
             continue
-        rows = codes == j
         if register is not None and name in register.invalid:
-            for i in np.flatnonzero(rows):
+            for i in np.flatnonzero(inst.codes == j):
                 err.add(i, "instrument", name, "an instrument with a usable register entry",
                         register.invalid[name])
             continue
         entry = register.entries.get(name) or register.entries.get(
             lowered.get(name.lower(), "")) if register else None
         if entry is not None:
-            _fill(resolution, rows, entry.resolution_mm)
+            has_res[j], res_t[j] = entry.resolution_mm is not None, entry.resolution_mm
             if entry.mpe_a_mm is not None:
-                m = rows & ~np.isfinite(mpe_a)
-                mpe_a[m] = entry.mpe_a_mm
-                mpe_k[m] = entry.mpe_k_mm or np.inf  # None in the register: constant MPE
+                has_mpe[j] = True
+                mpe_a_t[j] = entry.mpe_a_mm
+                mpe_k_t[j] = entry.mpe_k_mm or np.inf  # None in the register: constant MPE
             if entry.cal_u_mm is not None:
-                fill = rows & ~np.isfinite(cal_u)
-                cal_u[fill] = entry.cal_u_mm
-                cal_k[fill] = 1.0  # the register keeps the standard uncertainty U/k
-            inst_type[rows] = entry.type
-            gauge_mat[rows & (gauge_mat == "")] = entry.material or ""
+                has_cal[j], cal_t[j] = True, entry.cal_u_mm
+            type_t[j] = entry.type
+            mat_t[j] = entry.material or ""
             if entry.cal_due is not None:
-                due[rows] = np.datetime64(entry.cal_due, "D")
+                due_t[j] = np.datetime64(entry.cal_due, "D")
             continue
         spec = _lookup_type(types, name)
         if spec is not None:  # qc.library.instruments.InstrumentType, lengths in mm
-            inst_type[rows] = spec.id
-            _fill(resolution, rows, spec.resolution)
-            if not np.isfinite(mpe_a[rows]).all():
-                m = rows & ~np.isfinite(mpe_a)
-                mpe_a[m] = spec.mpe_a
-                mpe_k[m] = spec.mpe_k if spec.mpe_k else np.inf
-            gauge_mat[rows & (gauge_mat == "")] = spec.scale_material
+            type_t[j] = spec.id
+            has_res[j], res_t[j] = spec.resolution is not None, spec.resolution
+            has_mpe[j] = True
+            mpe_a_t[j] = spec.mpe_a
+            mpe_k_t[j] = spec.mpe_k if spec.mpe_k else np.inf
+            mat_t[j] = spec.scale_material
             continue
         from qc.errors import UnknownNameError
 
         e = UnknownNameError("instrument", name, known)
         hint = ("did you mean " + " or ".join(repr(s) for s in e.suggestions) + "?"
                 if e.suggestions else "list it in the instrument register")
-        for i in np.flatnonzero(rows):
+        for i in np.flatnonzero(inst.codes == j):
             err.add(i, "instrument", name, "an instrument id from the register or an "
                     "instrument type", hint)
+    rows = inst.codes
+    _fill(resolution, has_res[rows], res_t[rows])
+    m = has_mpe[rows] & ~np.isfinite(mpe_a)
+    mpe_a[m] = mpe_a_t[rows][m]
+    mpe_k[m] = mpe_k_t[rows][m]
+    fill = has_cal[rows] & ~np.isfinite(cal_u)
+    cal_u[fill] = cal_t[rows][fill]
+    cal_k[fill] = 1.0  # the register keeps the standard uncertainty U/k
+    gives_mat = np.fromiter((v is not None for v in mat_t), dtype=bool, count=k)
+    gauge_mat = Coded(rows, mat_t).where(gives_mat[rows] & gauge_mat.is_(""), gauge_mat)
+    return Coded(rows, type_t), gauge_mat, due_t[rows]
 
 
-def _fill(target: np.ndarray, rows: np.ndarray, value: float | None) -> None:
-    if value is None:
-        return
+def _fill(target: np.ndarray, rows: np.ndarray, values: np.ndarray) -> None:
+    """``values`` into the non-finite cells of ``target`` on the rows ``rows`` (a mask)."""
     m = rows & ~np.isfinite(target)
-    target[m] = value
+    target[m] = values[m]
 
 
 def _type_library():
@@ -587,3 +692,14 @@ def _lookup_type(types, name: str):
         return types.get(name)
     except UnknownNameError:
         return None
+
+
+def _repeated(text: str, n: int) -> pa.Array | None:
+    """``text`` n times as an Arrow string array, written straight into its two buffers;
+    None for a text Arrow cannot hold (the caller then builds the column the general way)."""
+    try:
+        data = text.encode("utf-8")
+    except UnicodeEncodeError:
+        return None
+    offsets = np.arange(n + 1, dtype=np.int64) * len(data)
+    return pa.LargeStringArray.from_buffers(n, pa.py_buffer(offsets), pa.py_buffer(data * n))

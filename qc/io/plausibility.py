@@ -15,9 +15,9 @@ from __future__ import annotations
 
 import dataclasses
 import tomllib
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
-from functools import cache
+from functools import cache, cached_property
 from importlib import resources
 from typing import Any
 
@@ -85,15 +85,26 @@ class _Out:
 
     def __init__(self, frame: pd.DataFrame, columns: Mapping[str, Any] | None) -> None:
         n = len(frame)
-        self.file = _col(frame, "source_file", "", object)
-        self.sheet = _col(frame, "source_sheet", None, object)
-        self.row = _col(frame, "source_row", None, object)
+        self.frame = frame
         self.columns = columns or {}
         self.errors: Messages = {}
         self.warnings: Messages = {}
         self.n = n
-        first = self.file[0] if n else ""
+        first = _col(frame.iloc[:1], "source_file", "", object)[0] if n else ""
         self.label = str(first) if isinstance(first, str) and first else "input"
+
+    # the source columns are converted only when a row gets a message (most files: none)
+    @cached_property
+    def file(self) -> np.ndarray:
+        return _col(self.frame, "source_file", "", object)
+
+    @cached_property
+    def sheet(self) -> np.ndarray:
+        return _col(self.frame, "source_sheet", None, object)
+
+    @cached_property
+    def row(self) -> np.ndarray:
+        return _col(self.frame, "source_row", None, object)
 
     def place(self, i: int, field: str) -> str:
         ref = self.columns.get(field)
@@ -119,6 +130,24 @@ def _col(frame: pd.DataFrame, name: str, fill: Any, dtype: Any) -> np.ndarray:
     if name in frame:
         return frame[name].to_numpy(dtype=dtype, copy=True)
     return np.full(len(frame), fill, dtype=dtype)
+
+
+def _by_distinct(frame: pd.DataFrame, name: str, fill: Any,
+                 fn: Callable[[pd.Series], np.ndarray]) -> np.ndarray:
+    """``fn`` of a column, where ``fn`` works value by value (a string test, a comparison).
+
+    A string column is factorised and ``fn`` runs on its distinct values only (plus one
+    missing value), the answers spread back by code; any other column goes to ``fn`` whole,
+    and a missing column is ``fill`` on every row.
+    """
+    if name not in frame:
+        return np.asarray(fn(pd.Series(np.full(len(frame), fill, dtype=object), dtype=object)))
+    column = frame[name]
+    if not isinstance(column.dtype, pd.StringDtype):
+        return np.asarray(fn(column))
+    codes, uniques = pd.factorize(column)  # missing values: code -1, the last entry below
+    distinct = pd.Series(uniques).reindex(range(len(uniques) + 1))
+    return np.asarray(fn(distinct))[codes]
 
 
 def _num(frame: pd.DataFrame, name: str) -> np.ndarray:
@@ -199,9 +228,11 @@ def _sizes(frame: pd.DataFrame, lim: Plausibility, out: _Out, notes: list[str]) 
     nominal = _num(frame, "nominal_mm")
     lower, upper = _num(frame, "lower_limit_mm"), _num(frame, "upper_limit_mm")
     mean, sd = _num(frame, "reading_mean_mm"), _num(frame, "reading_sd_mm")
-    kinds = pd.Series(_col(frame, "kind", "", object), dtype=object).fillna("").astype(str)
-    signed = (kinds.str.strip().str.lower().isin(set(lim.signed_kinds)).to_numpy()
-              | (_col(frame, "unit", "", object) == "°"))
+    signed_kinds = set(lim.signed_kinds)
+    signed = (_by_distinct(frame, "kind", "", lambda s: (
+        pd.Series(s.to_numpy(dtype=object), dtype=object).fillna("").astype(str)
+        .str.strip().str.lower().isin(signed_kinds).to_numpy()))
+        | _by_distinct(frame, "unit", "", lambda s: s.to_numpy(dtype=object) == "°"))
     for col, field, words in (("nominal_mm", "nominal", "nominal size"),
                               ("reading_mean_mm", "reading", "reading")):
         v = nominal if col == "nominal_mm" else mean
@@ -216,8 +247,9 @@ def _sizes(frame: pd.DataFrame, lim: Plausibility, out: _Out, notes: list[str]) 
     zone = np.isfinite(lower) & np.isfinite(upper) & ~inverted
     width = upper - lower
     # ISO 286 fits (g6, p6, ...) lie off the nominal by design: not a doubt there
-    fit = (frame["tolerance_description"].fillna("").astype(str).str.contains("ISO 286")
-           .to_numpy() if "tolerance_description" in frame else np.zeros(len(frame), bool))
+    fit = (_by_distinct(frame, "tolerance_description", "", lambda s: (
+        s.fillna("").astype(str).str.contains("ISO 286").to_numpy()))
+        if "tolerance_description" in frame else np.zeros(len(frame), bool))
     nominal_out = (zone & np.isfinite(nominal) & ((nominal < lower) | (nominal > upper))
                    & ~signed & ~fit)
     out.add(out.warnings, nominal_out, "nominal", lambda i: (

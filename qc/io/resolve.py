@@ -7,19 +7,22 @@ calls the library once per group and spreads the answer back; failures come back
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
 
 from qc.errors import QcError, UnknownNameError
-from qc.io.values import Problem
+from qc.io.values import Coded, Problem, joint_codes
 
 __all__ = ["GeneralTolerances", "MaterialCte", "general_tolerances", "material_cte",
            "parse_tolerances"]
 
 _TOL_UNITS = {"millimeter": "mm", "micrometer": "µm", "inch": "in"}
+
+
+def _coded(values: np.ndarray | Coded) -> Coded:
+    return values if isinstance(values, Coded) else Coded.of(values)
 
 
 @dataclass
@@ -31,21 +34,20 @@ class MaterialCte:
     problems: dict[int, Problem]
 
 
-def material_cte(names: np.ndarray) -> MaterialCte:
-    """Look each distinct material name up in the material library."""
+def material_cte(names: np.ndarray | Coded) -> MaterialCte:
+    """Look each distinct material name up in the material library ('' for none)."""
+    names = _coded(names)
     n = len(names)
-    cte, u = np.full(n, np.nan), np.full(n, np.nan)
     problems: dict[int, Problem] = {}
-    s = pd.Series(names, dtype=object)
-    filled = (s != "").to_numpy()
+    filled = ~names.is_("")
     if not filled.any():
-        return MaterialCte(cte, u, problems)
+        return MaterialCte(np.full(n, np.nan), np.full(n, np.nan), problems)
     from qc.library.materials import load_materials
 
     lib = load_materials()
-    codes, distinct = pd.factorize(s, use_na_sentinel=False)
-    by_code = np.full((len(distinct), 2), np.nan)  # (cte, cte_u) per distinct name
-    for j, name in enumerate(distinct):
+    by_code = np.full((len(names.values), 2), np.nan)  # (cte, cte_u) per distinct name
+    for j in names.in_use():
+        name = names.values[j]
         if name == "":
             continue
         try:
@@ -53,43 +55,57 @@ def material_cte(names: np.ndarray) -> MaterialCte:
         except UnknownNameError as exc:
             hint = ("did you mean " + " or ".join(repr(x) for x in exc.suggestions) + "?"
                     if exc.suggestions else "add it to your materials file or give the CTE")
-            for i in np.flatnonzero(codes == j):
+            for i in np.flatnonzero(names.codes == j):
                 problems[int(i)] = Problem(name, "a known material", hint)
             continue
         by_code[j] = float(m.cte), float(m.cte_u)
-    cte, u = by_code[codes, 0], by_code[codes, 1]
-    return MaterialCte(cte, u, problems)
+    return MaterialCte(by_code[names.codes, 0], by_code[names.codes, 1], problems)
 
 
 def parse_tolerances(
-    texts: np.ndarray, nominals: np.ndarray, features: np.ndarray, units: np.ndarray,
-    decimal: str,
-) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, dict[int, Problem]]:
-    """Limits and nominal in mm (NaN where not given) and descriptions, per row unit group."""
+    texts: np.ndarray | Coded, nominals: np.ndarray, features: np.ndarray | Coded,
+    units: np.ndarray | Coded, decimal: str,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, Coded, dict[int, Problem]]:
+    """Limits and nominal in mm (NaN where not given) and descriptions, per row unit group.
+
+    A row's answer depends only on its text, nominal, feature and unit, so each distinct
+    combination is parsed once (on its first row) and the answers are spread back.
+    """
     from qc.tolerances import parse_tolerance_column
     from qc.units import length_factor
 
-    n = len(texts)
-    lo, hi, nom = np.full(n, np.nan), np.full(n, np.nan), np.full(n, np.nan)
-    desc = np.full(n, "", dtype=object)
-    problems: dict[int, Problem] = {}
-    for unit in pd.unique(pd.Series(units, dtype=object)):
-        idx = np.flatnonzero(units == unit)
+    texts, features, units = _coded(texts), _coded(features), _coded(units)
+    nominals = np.asarray(nominals, dtype=float)
+    nom_codes, _ = pd.factorize(nominals)  # NaN: code -1, shifted to a code of its own
+    combo, rep = joint_codes(texts.codes, nom_codes + 1, features.codes, units.codes)
+    k = len(rep)
+    lo, hi, nom = np.full(k, np.nan), np.full(k, np.nan), np.full(k, np.nan)
+    desc = np.full(k, "", dtype=object)
+    failed: dict[int, Problem] = {}
+    rep_texts = texts.values[texts.codes[rep]]
+    rep_units = units.values[units.codes[rep]]
+    rep_features = features.values[features.codes[rep]]
+    for unit in pd.unique(pd.Series(rep_units, dtype=object)):
+        idx = np.flatnonzero(rep_units == unit)
         f = length_factor(unit)
         tol_unit = _TOL_UNITS.get(unit, f)
-        group = pd.Series(features[idx], dtype=object)
+        group = pd.Series(rep_features[idx], dtype=object)
         feats = np.where(group.isin(("hole", "shaft")).to_numpy(), group.to_numpy(), None)
         lower, upper, nominal, descr, errs = parse_tolerance_column(
-            texts[idx].astype(object), nominals[idx] / f, features=feats, unit=tol_unit,
-            decimal=decimal)
+            rep_texts[idx].astype(object), nominals[rep[idx]] / f, features=feats,
+            unit=tol_unit, decimal=decimal)
         lo[idx] = np.asarray(lower, dtype=float) * f
         hi[idx] = np.asarray(upper, dtype=float) * f
         nom[idx] = np.asarray(nominal, dtype=float) * f
         descr = np.asarray(descr, dtype=object)
         desc[idx] = np.where(np.equal(descr, None), "", descr)  # None: no description
         for j, e in errs.items():
-            problems[int(idx[j])] = Problem(texts[idx[j]], "a tolerance", str(e))
-    return lo, hi, nom, desc, problems
+            failed[int(idx[j])] = Problem(rep_texts[idx[j]], "a tolerance", str(e))
+    problems: dict[int, Problem] = {}
+    if failed:
+        bad = np.flatnonzero(np.isin(combo, np.fromiter(failed, dtype=np.intp)))
+        problems = {int(r): failed[int(combo[r])] for r in bad}
+    return lo[combo], hi[combo], nom[combo], Coded(combo, desc), problems
 
 
 @dataclass
@@ -100,28 +116,30 @@ class GeneralTolerances:
     problems: dict[int, Problem]
 
 
-def general_tolerances(nominal_mm: np.ndarray, classes: np.ndarray) -> GeneralTolerances:
+def general_tolerances(nominal_mm: np.ndarray, classes: np.ndarray | Coded) -> GeneralTolerances:
     """ISO 2768-1 Table 1 half-widths for linear sizes, one library call per distinct pair."""
     from qc.tolerances.iso2768 import general_tolerance
 
+    classes = _coded(classes)
+    nominal_mm = np.asarray(nominal_mm, dtype=float)
     n = len(classes)
     half = np.full(n, np.nan)
     problems: dict[int, Problem] = {}
-    cache: dict[tuple[float, str], float | Problem] = {}
-    for i in np.flatnonzero(classes != ""):
-        nom = float(nominal_mm[i])
-        if not math.isfinite(nom):
-            continue
-        key = (nom, str(classes[i]))
-        r = cache.get(key)
-        if r is None:
-            try:
-                r = general_tolerance(nom, key[1])
-            except QcError as exc:
-                r = Problem(key[1], "an ISO 2768-1 general tolerance that applies", str(exc))
-            cache[key] = r
-        if isinstance(r, Problem):
-            problems[int(i)] = r
-        else:
-            half[i] = r
+    idx = np.flatnonzero(~classes.is_("") & np.isfinite(nominal_mm))
+    if not len(idx):
+        return GeneralTolerances(half, problems)
+    nom_codes, _ = pd.factorize(nominal_mm[idx])
+    combo, rep = joint_codes(classes.codes[idx], nom_codes)
+    per_combo = np.full(len(rep), np.nan)
+    failed: dict[int, Problem] = {}
+    for c, r in enumerate(rep):
+        nom, cls = float(nominal_mm[idx[r]]), str(classes[idx[r]])
+        try:
+            per_combo[c] = general_tolerance(nom, cls)
+        except QcError as exc:
+            failed[c] = Problem(cls, "an ISO 2768-1 general tolerance that applies", str(exc))
+    half[idx] = per_combo[combo]
+    if failed:
+        bad = np.flatnonzero(np.isin(combo, np.fromiter(failed, dtype=np.intp)))
+        problems = {int(idx[r]): failed[int(combo[r])] for r in bad}
     return GeneralTolerances(half, problems)

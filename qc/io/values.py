@@ -14,6 +14,7 @@ from __future__ import annotations
 import datetime as dt
 import math
 import re
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import Literal
 
@@ -26,12 +27,15 @@ __all__ = [
     "BLANK_WORDS",
     "EXCEL_ERRORS",
     "CellMarker",
+    "Coded",
     "ParsedColumn",
     "Problem",
     "is_blank",
+    "joint_codes",
     "parse_dates",
     "parse_numbers",
     "parse_texts",
+    "parse_texts_coded",
 ]
 
 Decimal = Literal[".", ","]
@@ -114,6 +118,111 @@ class ParsedColumn:
 
 
 @dataclass(frozen=True)
+class Coded:
+    """A column as its distinct values and one code per row: ``values[codes]`` is the column.
+
+    Shop columns repeat a few spellings over many rows, so whatever depends on the value only
+    (a look-up, a comparison, a message) is worked out once per entry of ``values`` and spread
+    back with integer indexing. ``values`` may hold an entry twice or one no row uses; every
+    per-value step gives the same answer for equal entries, so that never changes a result.
+    """
+
+    codes: np.ndarray
+    values: np.ndarray
+
+    @classmethod
+    def of(cls, column: np.ndarray) -> Coded:
+        """Codes of an object column of texts (None, NaN and NaT all become the value None)."""
+        codes, uniques = pd.factorize(np.asarray(column, dtype=object))
+        missing = codes < 0
+        if not missing.any():
+            return cls(codes, np.asarray(uniques, dtype=object))
+        values = np.empty(len(uniques) + 1, dtype=object)
+        values[:-1] = uniques
+        values[-1] = None
+        return cls(np.where(missing, len(uniques), codes), values)
+
+    @classmethod
+    def constant(cls, value: object, n: int) -> Coded:
+        """``n`` rows of one value."""
+        values = np.empty(1, dtype=object)
+        values[0] = value
+        return cls(np.zeros(n, dtype=np.intp), values)
+
+    def __len__(self) -> int:
+        return len(self.codes)
+
+    def __getitem__(self, i: int) -> object:
+        """The value of row ``i``."""
+        return self.values[self.codes[i]]
+
+    def dense(self) -> np.ndarray:
+        """The column as an object array, one value per row."""
+        return self.values[self.codes]
+
+    def in_use(self) -> np.ndarray:
+        """Indices of the values some row holds."""
+        return np.flatnonzero(np.bincount(self.codes, minlength=len(self.values)))
+
+    def _per_value(self, fn: Callable[[object], object], dtype: object) -> np.ndarray:
+        """``fn`` of each value in use (others left zero or None): fn never sees a value no
+        row holds."""
+        k = len(self.values)
+        per_value = (np.full(k, None, dtype=object) if np.dtype(dtype) == object
+                     else np.zeros(k, dtype=dtype))
+        used = self.in_use()
+        results = np.empty(len(used), dtype=object)
+        results[:] = [fn(v) for v in self.values[used]]
+        per_value[used] = results
+        return per_value
+
+    def each(self, fn: Callable[[object], object], dtype: object = object) -> np.ndarray:
+        """``fn`` of each row's value, called once per distinct value in use."""
+        return self._per_value(fn, dtype)[self.codes]
+
+    def is_(self, value: object) -> np.ndarray:
+        """True on the rows whose value equals ``value``."""
+        hit = np.fromiter((v == value for v in self.values), dtype=bool, count=len(self.values))
+        return hit[self.codes]
+
+    def recode(self, fn: Callable[[object], object]) -> Coded:
+        """The column with every value in use replaced by ``fn(value)``; the codes stay."""
+        return Coded(self.codes, self._per_value(fn, object))
+
+    def take(self, rows: np.ndarray) -> Coded:
+        """The rows ``rows`` (indices or a mask) of the column."""
+        return Coded(self.codes[rows], self.values)
+
+    def where(self, mask: np.ndarray, other: Coded) -> Coded:
+        """This column where ``mask`` holds, ``other`` (of the same length) elsewhere."""
+        codes = np.where(mask, self.codes, other.codes + len(self.values))
+        return Coded(codes, np.concatenate([self.values, other.values]))
+
+    def put(self, rows: np.ndarray, other: Coded) -> Coded:
+        """The column with the rows ``rows`` (indices) replaced by ``other``'s values."""
+        codes = self.codes.copy()
+        codes[rows] = other.codes + len(self.values)
+        return Coded(codes, np.concatenate([self.values, other.values]))
+
+
+def joint_codes(*codes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """One code per row for each distinct combination of the given codes (each ≥ 0), in order
+    of first appearance, and the first row of each combination (a representative to work on)."""
+    n = len(codes[0])
+    if n == 0:
+        return np.zeros(0, dtype=np.intp), np.zeros(0, dtype=np.intp)
+    key = np.asarray(codes[0], dtype=np.int64)
+    for c in codes[1:]:
+        compact, _ = pd.factorize(key)  # at most n values: the product below stays small
+        key = compact.astype(np.int64) * (int(c.max()) + 1) + np.asarray(c, dtype=np.int64)
+    combo, _ = pd.factorize(key)
+    # codes count up in order of first appearance: a row is first where its code is new
+    seen = np.maximum.accumulate(combo)
+    first = np.flatnonzero(np.concatenate(([True], combo[1:] > seen[:-1])))
+    return combo.astype(np.intp, copy=False), first
+
+
+@dataclass(frozen=True)
 class _Distinct:
     """A column split into its text cells, by distinct text, and the rest.
 
@@ -121,6 +230,7 @@ class _Distinct:
     the index of each one's text in ``texts``. ``other`` are the rows holding anything else
     (numbers, dates, markers, None/NaN), left to the type-by-type paths. Only text is grouped:
     ``True``, ``1`` and ``1.0`` compare equal in Python, so non-text values are never merged.
+    ``all_text`` tells that every cell is text (then ``pos`` has one entry per row).
     """
 
     cells: np.ndarray
@@ -128,12 +238,16 @@ class _Distinct:
     rows: np.ndarray
     pos: np.ndarray
     other: np.ndarray
+    all_text: bool = False
 
     @classmethod
     def of(cls, cells: np.ndarray) -> _Distinct:
         arr = np.asarray(cells, dtype=object).reshape(-1)
         codes, uniques = pd.factorize(arr)  # hash table in C; None/NaN/NaT get code -1
         is_str = np.fromiter((type(u) is str for u in uniques), dtype=bool, count=len(uniques))
+        if is_str.all() and not (codes < 0).any():  # the usual text file: every cell a string
+            return cls(arr, list(uniques), np.arange(len(arr)), codes,
+                       np.empty(0, dtype=np.intp), all_text=True)
         # position of each distinct value among the texts; -1 (the last slot) for the rest
         slot = np.append(np.where(is_str, np.cumsum(is_str) - 1, -1), -1)
         pos = slot[codes]
@@ -144,6 +258,15 @@ class _Distinct:
     def spread(self, per_text: np.ndarray) -> np.ndarray:
         """Values given per distinct text, one per text row."""
         return per_text[self.pos]
+
+    def column(self, per_text: np.ndarray, fill: object, dtype: object) -> np.ndarray:
+        """A full column: the value of each text row's text, ``fill`` on the other rows."""
+        if self.all_text:
+            return np.asarray(per_text, dtype=dtype)[self.pos]
+        out = np.full(len(self.cells), fill, dtype=dtype)
+        if len(self.rows):
+            out[self.rows] = self.spread(per_text)
+        return out
 
 
 def is_blank(cells: np.ndarray) -> np.ndarray:
@@ -300,21 +423,22 @@ def parse_numbers(
     d = _Distinct.of(cells)
     cells = d.cells
     n = len(cells)
-    first = np.full(n, np.nan)
-    units = np.full(n, None, dtype=object)
-    counts = np.zeros(n, dtype=np.int64)
     problems: dict[int, Problem] = {}
     width = 1
     multi_rows = np.array([], dtype=np.int64)
     multi_vals = np.empty((0, 1))
-    if len(d.rows):
+    if not len(d.rows):
+        first = np.full(n, np.nan)
+        units = np.full(n, None, dtype=object)
+        counts = np.zeros(n, dtype=np.int64)
+    else:
         per_text = _text_numbers(d.texts, kind, decimal, thousands, multi, allow_pm)
         unit_t = np.empty(len(per_text), dtype=object)
         unit_t[:] = [r[1] for r in per_text]
         count_t = np.array([r[2] for r in per_text], dtype=np.int64)
-        first[d.rows] = d.spread(np.array([r[0] for r in per_text], dtype=float))
-        units[d.rows] = d.spread(unit_t)
-        counts[d.rows] = d.spread(count_t)
+        first = d.column(np.array([r[0] for r in per_text], dtype=float), np.nan, float)
+        units = d.column(unit_t, None, object)
+        counts = d.column(count_t, 0, np.int64)
         hit = d.spread(np.array([r[3] is not None for r in per_text], dtype=bool))
         if hit.any():
             objs = [Problem(t, *r[3]) if r[3] is not None else None
@@ -332,8 +456,11 @@ def parse_numbers(
             multi_vals = table[d.pos[is_multi]]
     if len(d.other):
         _other_numbers(cells, d.other, first, counts, problems)
-    values = np.full((n, width), np.nan)
-    values[:, 0] = first
+    if width == 1:
+        values = first.reshape(n, 1)  # a view: ``first`` is this function's own array
+    else:
+        values = np.full((n, width), np.nan)
+        values[:, 0] = first
     if len(multi_rows):
         values[multi_rows] = multi_vals
     bad = ~np.isfinite(values[:, 0]) & (counts > 0)
@@ -457,7 +584,7 @@ def parse_dates(cells: np.ndarray, *, date_order: str | None = None) -> tuple[np
             else:
                 when[j] = np.datetime64(r, "s")
                 objs.append(None)
-        out[d.rows] = d.spread(when)
+        out = d.column(when, np.datetime64("NaT"), "datetime64[s]")
         hit = d.spread(np.array([p is not None for p in objs], dtype=bool))
         if hit.any():
             problems.update(zip(d.rows[hit].tolist(), [objs[j] for j in d.pos[hit].tolist()],
@@ -503,15 +630,25 @@ def _text_of(v: object) -> str:
 
 def parse_texts(cells: np.ndarray) -> tuple[np.ndarray, dict[int, Problem]]:
     """Text column: strings stripped, numbers written without a trailing '.0', blanks as ''."""
+    coded, problems = parse_texts_coded(cells)
+    return coded.dense(), problems
+
+
+def parse_texts_coded(cells: np.ndarray) -> tuple[Coded, dict[int, Problem]]:
+    """:func:`parse_texts` as a :class:`Coded` column: each distinct text is stripped once and
+    the rows keep codes, so later steps can work per distinct text as well."""
     d = _Distinct.of(cells)
     problems: dict[int, Problem] = {}
-    out = np.full(len(d.cells), "", dtype=object)
+    n_text = len(d.texts)
+    parts: list[object] = [t.strip() for t in d.texts]
+    parts.append("")  # blanks, None and markers
+    if d.all_text:
+        return Coded(d.pos, _objects(parts)), problems
+    codes = np.full(len(d.cells), n_text, dtype=np.intp)
     if len(d.rows):
-        stripped = np.empty(len(d.texts), dtype=object)
-        stripped[:] = [t.strip() for t in d.texts]
-        out[d.rows] = d.spread(stripped)
+        codes[d.rows] = d.pos
     if not len(d.other):
-        return out, problems
+        return Coded(codes, _objects(parts)), problems
     s = pd.Series(d.cells[d.other], dtype=object)
     keep = ~s.isna().to_numpy()
     rows, s = d.other[keep], s[keep]
@@ -530,11 +667,18 @@ def parse_texts(cells: np.ndarray) -> tuple[np.ndarray, dict[int, Problem]]:
             continue
         vals = s[of_type].to_numpy()
         if issubclass(t, dt.datetime | dt.time):  # equal across time zones, written apart
-            out[rows[of_type]] = [_text_of(v) for v in vals]
+            codes[rows[of_type]] = len(parts) + np.arange(len(vals))
+            parts.extend(_text_of(v) for v in vals)
             continue
         # within one type, equal values write the same text: convert each distinct value once
-        codes, uniques = pd.factorize(vals)
-        text = np.empty(len(uniques), dtype=object)
-        text[:] = [_text_of(u) for u in uniques]
-        out[rows[of_type]] = text[codes]
-    return out, problems
+        value_codes, uniques = pd.factorize(vals)
+        codes[rows[of_type]] = len(parts) + value_codes
+        parts.extend(_text_of(u) for u in uniques)
+    return Coded(codes, _objects(parts)), problems
+
+
+def _objects(items: list[object]) -> np.ndarray:
+    """An object array of exactly these items (no nesting into more dimensions)."""
+    out = np.empty(len(items), dtype=object)
+    out[:] = items
+    return out

@@ -261,3 +261,26 @@ def test_blank_cells_are_judged_as_str_strip_judges_them() -> None:
     assert blank.tolist() == [not v.strip() for v in values] * 3
     grid = Grid(file="x.csv", sheet=None, cells=cells.reshape(-1, 1))
     assert grid.blank()[:, 0].tolist() == blank.tolist()  # the grid's own rule
+
+
+def test_the_command_runs_a_csv_to_parquet_in_chunks(tmp_path: Path) -> None:
+    from typer.testing import CliRunner
+
+    from qc.cli import app
+
+    src = _csv(tmp_path / "records.csv", _rows(N))
+    out = tmp_path / "records.checked.parquet"
+    res = CliRunner().invoke(app, ["normalise", str(src), "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    got = pd.read_parquet(out)
+    whole = evaluate_file(src)
+    assert len(got) == N and got["verdict"].value_counts().to_dict() == {
+        k: v for k, v in whole.counts.items() if v}
+    text = " ".join(res.output.split())  # the table title wraps in a narrow terminal
+    assert f"records.csv: {N} measurements" in text
+    assert "more in the flags and message columns of the output" in text
+    # --fail-on reads the counts of a run in chunks too
+    res = CliRunner().invoke(app, ["normalise", str(src), "-o", str(out), "--force",
+                                   "--fail-on", "borderline"])
+    assert res.exit_code == (1 if whole.counts["borderline"] + whole.counts["nonconforming"]
+                             else 0)
