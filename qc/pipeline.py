@@ -114,8 +114,13 @@ class Evaluation:
 
 
 def mm_per_unit(units: pd.Series | np.ndarray) -> np.ndarray:
-    """Millimetres per unit for each row's unit name (1 for angles and unknown units)."""
-    return pd.Series(np.asarray(units, dtype=object)).map(_MM_PER_UNIT).fillna(1.0).to_numpy()
+    """Millimetres per unit for each row's unit name (1 for angles and unknown units).
+
+    Looked up once per distinct name (a sheet uses one or two units)."""
+    codes, names = pd.factorize(pd.Series(units), use_na_sentinel=True)
+    per_name = np.array([_MM_PER_UNIT.get(u, 1.0) if isinstance(u, str) else 1.0
+                         for u in names] + [1.0])
+    return per_name[codes]  # code -1 (missing): the 1.0 at the end
 
 
 def sha256_of(path: Path) -> str:

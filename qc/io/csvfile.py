@@ -143,9 +143,11 @@ def _options(delimiter: str, width: int, block_size: int | None = None,
 
 
 def _text_columns(columns: list[pa.ChunkedArray] | list[pa.Array],
-                  ) -> list[tuple[np.ndarray, np.ndarray]] | None:
-    """Arrow string columns as (object array of str, blank mask); None when a field is
-    longer than ``csv.field_size_limit()``, which the csv module reports as an error.
+                  ) -> list[tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]] | None:
+    """Arrow string columns as (object array of str, blank mask, codes, distinct values);
+    None when a field is longer than ``csv.field_size_limit()``, which the csv module reports
+    as an error. Codes and distinct values are the factorisation of the column (distinct
+    values in order of first appearance, as ``pandas.factorize`` gives them).
 
     Each column is dictionary-encoded first, so one str object is made per distinct value and
     the cells share it (memory, and hashing later, scale with distinct values); the blank
@@ -167,13 +169,13 @@ def _text_columns(columns: list[pa.ChunkedArray] | list[pa.Array],
         blank = np.zeros(len(values), dtype=bool)
         blank[maybe] = [not values[i].strip() for i in maybe.tolist()]
         codes = enc.indices.to_numpy(zero_copy_only=False)
-        out.append((values[codes], blank[codes]))
+        out.append((values[codes], blank[codes], codes, values))
     return out
 
 
 def _arrow_columns(data: bytes | memoryview, delimiter: str, width: int,
-                   ) -> list[tuple[np.ndarray, np.ndarray]] | None:
-    """Columns split by pyarrow as (object array of str, blank mask), or None where pyarrow
+                   ) -> list[tuple[np.ndarray, ...]] | None:
+    """Columns split by pyarrow as :func:`_text_columns` gives them, or None where pyarrow
     cannot be trusted (rows of other widths, broken quoting, a field over the size limit)."""
     read, parse, convert = _options(delimiter, width)
     try:
@@ -397,6 +399,8 @@ class TextChunk:
         if cols is None:
             raise NotStreamable(self.file)
         cells, blank = _chunk_cells(self.head, cols, self.wide)
+        # the codes describe whole columns of cells only when no rows stand above the body
+        codes = None if self.head else [(c[2], c[3]) for c in cols]
         notes, dec = list(self.notes), self.decimal
         if self.first_row == 0 and dec is None:
             fields = [f for row in cells[:SNIFF_ROWS].tolist() for f in row]
@@ -406,7 +410,7 @@ class TextChunk:
             notes.append(f"{self.file}: decimal {word} ({how})")
         return Grid(file=self.file, sheet=None, cells=cells, decimal=dec,
                     delimiter=self.delimiter, notes=notes, _blank=blank,
-                    first_row=self.first_row)
+                    first_row=self.first_row, codes=codes)
 
 
 def _batched_rows(reader: pa_csv.CSVStreamingReader, rows: int, first: int,
@@ -472,7 +476,7 @@ class _PacedFile(io.RawIOBase):
         super().close()
 
 
-def _chunk_cells(head: list[list[str]], cols: list[tuple[np.ndarray, np.ndarray]], wide: int,
+def _chunk_cells(head: list[list[str]], cols: list[tuple[np.ndarray, ...]], wide: int,
                  ) -> tuple[np.ndarray, np.ndarray]:
     """Cells and blank mask of a chunk: ``head`` rows (those above the body, first chunk
     only) then the body's columns, rows padded with '' to ``wide`` fields."""
@@ -484,7 +488,7 @@ def _chunk_cells(head: list[list[str]], cols: list[tuple[np.ndarray, np.ndarray]
     for i, r in enumerate(head):
         cells[i, : len(r)] = r
         blank[i, : len(r)] = [not f.strip() for f in r]
-    for j, (c, b) in enumerate(cols):
+    for j, (c, b, *_) in enumerate(cols):
         cells[len(head):, j] = c
         blank[len(head):, j] = b
     return cells, blank

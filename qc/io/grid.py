@@ -6,7 +6,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-__all__ = ["Grid", "column_letter"]
+__all__ = ["Grid", "KnownCodes", "column_letter"]
 
 
 def column_letter(index: int) -> str:
@@ -17,6 +17,26 @@ def column_letter(index: int) -> str:
         n, r = divmod(n - 1, 26)
         out = chr(65 + r) + out
     return out
+
+
+class KnownCodes(np.ndarray):
+    """An object column of text cells that already knows its factorisation, as
+    ``pandas.factorize`` would give it: ``codes`` (one per cell) into ``uniques`` (in order of
+    first appearance). The CSV reader gets both from pyarrow's dictionary encoding, so the
+    parsers need not hash the column again. Read-only; a view or copy made from it forgets
+    the codes (they would no longer match its cells)."""
+
+    codes: np.ndarray | None
+    uniques: np.ndarray | None
+
+    def __new__(cls, cells: np.ndarray, codes: np.ndarray, uniques: np.ndarray) -> KnownCodes:
+        obj = np.asarray(cells, dtype=object).view(cls)
+        obj.codes, obj.uniques = np.asarray(codes, dtype=np.intp), uniques
+        obj.flags.writeable = False
+        return obj
+
+    def __array_finalize__(self, obj: object) -> None:
+        self.codes = self.uniques = None
 
 
 @dataclass
@@ -38,6 +58,8 @@ class Grid:
     notes: list[str] = field(default_factory=list)
     _blank: np.ndarray | None = field(default=None, repr=False)
     first_row: int = 0
+    #: per column, (codes, uniques) of its cells when the reader knows them (else None)
+    codes: list[tuple[np.ndarray, np.ndarray] | None] | None = field(default=None, repr=False)
 
     def blank(self) -> np.ndarray:
         """True where a cell is empty or whitespace-only text (computed once, column-wise).

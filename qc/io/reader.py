@@ -25,7 +25,7 @@ from qc.io.csvfile import (
     read_delimited,
     stream_delimited,
 )
-from qc.io.grid import Grid, column_letter
+from qc.io.grid import Grid, KnownCodes, column_letter
 from qc.io.guard import Limits, guard_file
 from qc.io.headers import HeaderScan, find_header_row, suggest_field
 from qc.io.layout import load_layout
@@ -113,9 +113,14 @@ def _long_raw(grid: Grid, scan: HeaderScan, *, below_header: bool = True,
     raw = RawTable(file=grid.file, sheet=grid.sheet, rows=dr + grid.first_row + 1)
     # no blank line between the data rows (the usual case): a slice, copied column by column
     block = slice(int(dr[0]), int(dr[-1]) + 1) if len(dr) and dr[-1] - dr[0] + 1 == len(dr) else dr
+    # every row of the grid is a data row: the reader's factorisation of a column holds
+    known = grid.codes if len(dr) == grid.cells.shape[0] else None
     for m in scan.matches:
-        raw.cells[m.field] = (grid.cells[block, m.column].copy() if len(dr)
-                              else np.array([], dtype=object))
+        cells = (grid.cells[block, m.column].copy() if len(dr)
+                 else np.array([], dtype=object))
+        if known and m.column < len(known) and known[m.column] is not None:
+            cells = KnownCodes(cells, *known[m.column])  # type: ignore[misc]
+        raw.cells[m.field] = cells
         raw.letters[m.field] = m.letter
         raw.headers[m.field] = m.header
         raw.header_units[m.field] = m.unit

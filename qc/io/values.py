@@ -21,6 +21,7 @@ from typing import Literal
 import numpy as np
 import pandas as pd
 
+from qc.io.grid import KnownCodes
 from qc.units import UnitKind, canonical_unit
 
 __all__ = [
@@ -133,6 +134,8 @@ class Coded:
     @classmethod
     def of(cls, column: np.ndarray) -> Coded:
         """Codes of an object column of texts (None, NaN and NaT all become the value None)."""
+        if isinstance(column, KnownCodes) and column.codes is not None:  # the reader's own
+            return cls(column.codes, np.asarray(column.uniques, dtype=object))
         codes, uniques = pd.factorize(np.asarray(column, dtype=object))
         missing = codes < 0
         if not missing.any():
@@ -242,6 +245,9 @@ class _Distinct:
 
     @classmethod
     def of(cls, cells: np.ndarray) -> _Distinct:
+        if isinstance(cells, KnownCodes) and cells.codes is not None:  # text cells, coded
+            return cls(np.asarray(cells).reshape(-1), list(cells.uniques), np.arange(len(cells)),
+                       cells.codes, np.empty(0, dtype=np.intp), all_text=True)
         arr = np.asarray(cells, dtype=object).reshape(-1)
         codes, uniques = pd.factorize(arr)  # hash table in C; None/NaN/NaT get code -1
         is_str = np.fromiter((type(u) is str for u in uniques), dtype=bool, count=len(uniques))

@@ -12,6 +12,7 @@ import codecs
 import threading
 from pathlib import Path
 
+import numpy as np
 import pandas as pd
 import pyarrow as pa
 import pyarrow.parquet as pq
@@ -26,7 +27,7 @@ from qc.io.csvfile import (
     _text_columns,
     stream_delimited,
 )
-from qc.io.grid import Grid
+from qc.io.grid import Grid, KnownCodes
 from qc.io.reader import read_inspection_chunks
 from qc.pipeline import evaluate_file
 from qc.streaming import StreamedRun, evaluate_to_table
@@ -256,8 +257,11 @@ def test_blank_cells_are_judged_as_str_strip_judges_them() -> None:
     # Python's str.isspace: ASCII whitespace, the separators \x1c–\x1f, NBSP, U+3000, U+2028 …
     values = ["", " ", "\u00a0", "a", " a", "\x1c", "é", "\u3000x", "12.5", "\t\r", "\u2028",
               "\u3000", "-", "\u200b"]
-    (cells, blank), = _text_columns([pa.array(values * 3)])
+    (cells, blank, codes, uniques), = _text_columns([pa.array(values * 3)])
     assert cells.tolist() == values * 3
+    # the factorisation handed to the parsers is pandas' own (order of first appearance)
+    pd_codes, pd_uniques = pd.factorize(np.asarray(values * 3, dtype=object))
+    assert codes.tolist() == pd_codes.tolist() and uniques.tolist() == list(pd_uniques)
     assert blank.tolist() == [not v.strip() for v in values] * 3
     grid = Grid(file="x.csv", sheet=None, cells=cells.reshape(-1, 1))
     assert grid.blank()[:, 0].tolist() == blank.tolist()  # the grid's own rule
@@ -284,3 +288,21 @@ def test_the_command_runs_a_csv_to_parquet_in_chunks(tmp_path: Path) -> None:
                                    "--fail-on", "borderline"])
     assert res.exit_code == (1 if whole.counts["borderline"] + whole.counts["nonconforming"]
                              else 0)
+
+
+def test_later_chunks_hand_their_codes_to_the_parsers(tmp_path: Path) -> None:
+    from qc.io.values import Coded, _Distinct
+
+    src = _csv(tmp_path / "sheet.csv", _rows(N))
+    chunked = read_inspection_chunks(src, chunk_rows=100)
+    grid = next(chunked.chunks).grid()
+    assert grid.codes is not None and grid.first_row > 0
+    reading = grid.cells[:, HEADER.index("Reading")]
+    known = KnownCodes(reading.copy(), *grid.codes[HEADER.index("Reading")])
+    plain, fast = _Distinct.of(reading), _Distinct.of(known)
+    assert fast.texts == plain.texts and fast.pos.tolist() == plain.pos.tolist()
+    assert fast.all_text and plain.all_text
+    assert Coded.of(known).dense().tolist() == reading.tolist()
+    assert KnownCodes(reading, *grid.codes[0])[1:].codes is None  # a view forgets them
+    with pytest.raises(ValueError):
+        known[0] = "changed"  # read-only: the codes cannot go stale
