@@ -40,11 +40,10 @@ from qc.results import (
     characteristic_frame,
     soak_advice,
 )
+from qc.units import MM_PER_UNIT
 
 __all__ = ["Evaluation", "Settings", "evaluate_file", "evaluate_table", "mm_per_unit"]
 
-#: Millimetres per length unit, for results written in each row's own unit (NIST SP 811).
-_MM_PER_UNIT = {"mm": 1.0, "in": 25.4, "µm": 1e-3, "thou": 0.0254, "cm": 10.0, "m": 1000.0}
 
 #: Half-width assumed for a thermometer whose accuracy the sheet does not state, °C
 #: (a contact thermometer for shop use; common practice, no source).
@@ -118,7 +117,7 @@ def mm_per_unit(units: pd.Series | np.ndarray) -> np.ndarray:
 
     Looked up once per distinct name (a sheet uses one or two units)."""
     codes, names = pd.factorize(pd.Series(units), use_na_sentinel=True)
-    per_name = np.array([_MM_PER_UNIT.get(u, 1.0) if isinstance(u, str) else 1.0
+    per_name = np.array([MM_PER_UNIT.get(u, 1.0) if isinstance(u, str) else 1.0
                          for u in names] + [1.0])
     return per_name[codes]  # code -1 (missing): the 1.0 at the end
 
@@ -338,7 +337,7 @@ def _results(table: InspectionTable, m: MeasurementArrays, budget: BatchBudget,
     n = len(frame)
     unit = frame["unit"].to_numpy(dtype=object) if "unit" in frame else np.full(n, "mm", object)
     if settings.output_unit != "row":
-        unit = np.where(np.isin(unit, list(_MM_PER_UNIT)), settings.output_unit, unit)
+        unit = np.where(np.isin(unit, list(MM_PER_UNIT)), settings.output_unit, unit)
     f = mm_per_unit(unit)
     verdict_code = decision.verdict
     evaluated = verdict_code != NOT_EVALUATED

@@ -24,6 +24,7 @@ import pint
 __all__ = [
     "CTE_SPELLINGS",
     "LENGTH_SPELLINGS",
+    "MM_PER_UNIT",
     "Q_",
     "TEMPERATURE_SPELLINGS",
     "UnitKind",
@@ -38,6 +39,10 @@ __all__ = [
 
 ureg = pint.UnitRegistry()
 Q_ = ureg.Quantity
+
+#: Millimetres per length unit of the result columns (each row keeps its own unit); the inch
+#: is exactly 25.4 mm (NIST SP 811, B.8).
+MM_PER_UNIT = {"mm": 1.0, "in": 25.4, "µm": 1e-3, "thou": 0.0254, "cm": 10.0, "m": 1000.0}
 
 UnitKind = Literal["length", "temperature", "cte"]
 

@@ -19,6 +19,8 @@ from rich.progress import (
 )
 from rich.table import Table
 
+from qc.units import MM_PER_UNIT
+
 console = Console()
 err_console = Console(stderr=True)
 
@@ -120,7 +122,7 @@ def explain(ev, i: int, mc) -> None:
     f = ev.table.frame.iloc[i]
     b = ev.budget.row(i)
     unit = res["unit"]
-    scale = {"mm": 1.0, "in": 25.4, "µm": 1e-3}.get(unit, 1.0)
+    scale = MM_PER_UNIT.get(unit, 1.0)
     info(f"[bold]{f['part']} · {f['characteristic']}[/bold]  (row {f['source_row']}, "
          f"{f['source_sheet'] or f['source_file']})")
     t = Table(title=f"Uncertainty budget (u_i(y) in {unit})", title_justify="left")

@@ -24,11 +24,10 @@ from qc.report.data import (
     ReportData,
     ReportMeta,
 )
+from qc.units import MM_PER_UNIT
 
 __all__ = ["report_data"]
 
-# mm per unit for the reader's length labels (1 in = 25.4 mm exactly, NIST SP 811, B.9)
-_MM_PER = {"mm": 1.0, "µm": 1e-3, "in": 25.4, "thou": 0.0254, "cm": 10.0, "m": 1000.0}
 _LENGTH_COLUMNS = ("nominal", "lower_limit", "upper_limit", "reading", "size_at_20c",
                    "thermal_correction", "combined_uncertainty", "expanded_uncertainty",
                    "accept_low", "accept_high")  # fmt: skip
@@ -41,7 +40,7 @@ def report_data(
     frame = ev.table.frame
     flat = ev.flat()
     unit = flat["unit"].astype(str)
-    f = unit.map(_MM_PER).to_numpy(float)
+    f = unit.map(MM_PER_UNIT).to_numpy(float)  # NaN: not a length
     flat["nominal"] = frame["nominal_mm"].to_numpy(float) / f if "nominal_mm" in frame else np.nan
     is_length = np.isfinite(f)
     convert = is_length & ~unit.isin(["mm", "in"]).to_numpy()
