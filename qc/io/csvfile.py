@@ -217,6 +217,18 @@ def _split_rows(text: str, data: bytes, delimiter: str, *, sample: bool,
     return cells, None, [f for r in rows[:SNIFF_ROWS] for f in r] if sample else []
 
 
+def _delimiter(path: Path, text: str, given: str | None, notes: list[str]) -> str:
+    """The layout's delimiter, a tab for .tsv, else the one sniffed from the first 200 lines
+    of ``text`` (noted)."""
+    if given is not None:
+        return given
+    if path.suffix.lower() == ".tsv":
+        return "\t"
+    found = sniff_delimiter(_head_lines(text, 200)) or ","
+    notes.append(f"{path.name}: fields separated by {_NAMES[found]} (detected)")
+    return found
+
+
 def read_delimited(path: Path, *, delimiter: str | None = None, decimal: str | None = None) -> Grid:
     """Read a delimited text file into a Grid of strings; notes record what was assumed."""
     try:
@@ -229,12 +241,7 @@ def read_delimited(path: Path, *, delimiter: str | None = None, decimal: str | N
     notes = [note] if note else []
     if not text or text.isspace():  # no copy of the text, unlike strip()
         raise FileReadError(f"{path.name}: the file is empty")
-    if delimiter is None:
-        if path.suffix.lower() == ".tsv":
-            delimiter = "\t"
-        else:
-            delimiter = sniff_delimiter(_head_lines(text, 200)) or ","
-            notes.append(f"{path.name}: fields separated by {_NAMES[delimiter]} (detected)")
+    delimiter = _delimiter(path, text, delimiter, notes)
     # pyarrow reads bytes: the file's own when it is UTF-8, else the decoded text re-encoded
     data = (raw[len(codecs.BOM_UTF8):] if raw.startswith(codecs.BOM_UTF8) else raw) \
         if note is None else text.encode("utf-8")
@@ -331,12 +338,7 @@ def stream_delimited(path: Path, *, delimiter: str | None = None, decimal: str |
     if not text or text.isspace():
         raise NotStreamable(path.name)
     notes: list[str] = []
-    if delimiter is None:
-        if path.suffix.lower() == ".tsv":
-            delimiter = "\t"
-        else:
-            delimiter = sniff_delimiter(_head_lines(text, 200)) or ","
-            notes.append(f"{path.name}: fields separated by {_NAMES[delimiter]} (detected)")
+    delimiter = _delimiter(path, text, delimiter, notes)
     lead = _head(text, delimiter)
     if lead is None:
         raise NotStreamable(path.name)
