@@ -284,13 +284,8 @@ class DelimitedStream:
     _source: object
 
     def fraction(self) -> float:
-        """Share of the file's bytes handed out so far, about (pyarrow reads a little ahead,
-        up to the pacing distance)."""
-        try:
-            done = self._source.tell() - self._source.ahead  # type: ignore[attr-defined]
-        except (OSError, ValueError):
-            return 1.0
-        return min(1.0, max(0.0, done / max(self.size, 1)))
+        """Share of the file's bytes handed out so far (to within one reading block)."""
+        return min(1.0, self._source.consumed() / max(self.size, 1))  # type: ignore[attr-defined]
 
 
 def _plain_utf8(path: Path) -> bool:
@@ -344,7 +339,7 @@ def stream_delimited(path: Path, *, delimiter: str | None = None, decimal: str |
         raise NotStreamable(path.name)
     head, offset, width = lead
     cut = bom + len(text[:offset].encode("utf-8"))
-    source = _PacedFile(path, cut, ahead=4 * _BLOCK_BYTES)
+    source = _PacedFile(path, cut, _BLOCK_BYTES)
     read, parse, convert = _options(delimiter, width, block_size=_BLOCK_BYTES)
     try:
         reader = pa_csv.open_csv(source, read_options=read, parse_options=parse,
@@ -436,19 +431,23 @@ def _batched_rows(reader: pa_csv.CSVStreamingReader, rows: int, first: int,
 
 
 class _PacedFile(io.RawIOBase):
-    """The file from byte ``start`` on, read by pyarrow's background threads no further than
-    ``ahead`` bytes past the point the consumer has reached (:meth:`allow`), so a large file is
-    not buffered whole. A read that has waited ``_WAIT_S`` goes on anyway: pacing can slow the
-    reader but never stop it."""
+    """The file from byte ``start`` on, read by pyarrow's background threads at most
+    ``ahead`` blocks past what the consumer has taken, so a large file is not buffered whole.
+
+    pyarrow's streaming reader makes one record batch per ``block`` bytes of input, so each
+    batch the consumer takes (:meth:`allow`) lets the reader one block further, and
+    :meth:`consumed` tells, to within a block, how far the consumer has got. A read that has
+    waited ``_WAIT_S`` goes on anyway: pacing can slow the reader but never stop it.
+    """
 
     _WAIT_S = 2.0
 
-    def __init__(self, path: Path, start: int, ahead: int) -> None:
+    def __init__(self, path: Path, start: int, block: int, ahead: int = 4) -> None:
         super().__init__()
         self._fh = path.open("rb")
         self._fh.seek(start)
-        self.ahead = ahead
-        self._limit = start + ahead
+        self._start, self._block, self._taken = start, block, 0
+        self._limit = start + ahead * block
         self._turn = threading.Condition()
 
     def readable(self) -> bool:
@@ -463,10 +462,15 @@ class _PacedFile(io.RawIOBase):
             return self._fh.readinto(buffer)
 
     def allow(self) -> None:
-        """The consumer took a batch: the reader may run ``ahead`` bytes past where it is."""
+        """The consumer took a batch: the reader may read one block further."""
         with self._turn:
-            self._limit = self._fh.tell() + self.ahead
+            self._taken += 1
+            self._limit += self._block
             self._turn.notify_all()
+
+    def consumed(self) -> int:
+        """Bytes of the file the consumer has taken as batches, about (one block each)."""
+        return self._start + self._taken * self._block
 
     def tell(self) -> int:
         return self._fh.tell()  # ValueError once closed

@@ -237,17 +237,17 @@ def test_the_paced_file_holds_the_reader_back_until_allowed(
     monkeypatch.setattr(_PacedFile, "_WAIT_S", 60.0)  # no timeout within the test
     src = tmp_path / "bytes.csv"
     src.write_bytes(b"x" * 10_000)
-    paced = _PacedFile(src, 100, ahead=1000)
+    paced = _PacedFile(src, 100, block=500, ahead=2)
     got: list[int] = []
     reader = threading.Thread(target=lambda: got.extend(
         len(paced.read(400)) for _ in range(10)))
     reader.start()
     reader.join(0.5)
-    # reads start at byte 100 and stop once the position has reached 100 + 1000
+    # reads start at byte 100 and stop once the position has reached 100 + 2 blocks
     assert reader.is_alive() and paced.tell() == 1300
-    paced.allow()  # the consumer took a batch: 1000 bytes more past the position
+    paced.allow()  # the consumer took a batch: one block more
     reader.join(0.5)
-    assert paced.tell() == 2500
+    assert paced.tell() == 1700 and paced.consumed() == 600
     paced.close()  # closing lets the reader finish (reads past the end are empty)
     reader.join(5)
     assert not reader.is_alive()
