@@ -34,11 +34,13 @@ from qc.io.writers import TABLE_SUFFIXES, TableSink, check_output, open_table
 from qc.models import Layout
 from qc.pipeline import Settings, evaluate_file, evaluate_table
 
-__all__ = ["CHUNK_ROWS", "StreamedRun", "evaluate_to_table", "streamable"]
+__all__ = ["CHUNKED_INPUTS", "CHUNK_ROWS", "StreamedRun", "evaluate_to_table", "streamable"]
 
 #: Rows per chunk: large enough that per-chunk overhead is small, small enough that a chunk's
 #: working set (about 4 kB a row, measured with bench/run.py) stays near 200 MB.
 CHUNK_ROWS = 50_000
+#: Kinds of input that can be read in chunks (a file may still turn out to need a whole read).
+CHUNKED_INPUTS = (".csv", ".tsv", ".txt", ".parquet")
 #: Rows needing action kept for the summary (the output's flags and messages hold them all).
 ACTIONS_KEPT = 50
 
@@ -98,7 +100,7 @@ class StreamedRun:
 def streamable(path: Path, output: Path) -> bool:
     """Whether a run from ``path`` to ``output`` can go in chunks (by the files' kinds)."""
     return (Path(output).suffix.lower() in TABLE_SUFFIXES
-            and Path(path).suffix.lower() in (".csv", ".tsv", ".txt", ".parquet"))
+            and Path(path).suffix.lower() in CHUNKED_INPUTS)
 
 
 def evaluate_to_table(path: Path | str, output: Path | str, *, layout: Layout | None = None,

@@ -151,7 +151,7 @@ def normalise(
     """Correct every reading to 20 °C, add its uncertainty and verdict, write the results."""
     from qc.export import default_output, write_results
     from qc.pipeline import evaluate_file
-    from qc.streaming import evaluate_to_table, streamable
+    from qc.streaming import CHUNKED_INPUTS, evaluate_to_table, streamable
 
     settings = _settings(rule, coverage, k, reference_temperature, units.value)
     limits = _limits(max_uncompressed_mb=max_uncompressed_mb, max_ratio=max_ratio,
@@ -182,6 +182,11 @@ def normalise(
                     ev = evaluate_file(path, layout=_layout(layout), sheet=sheet,
                                        register=instruments, settings=settings, limits=limits)
                     written = write_results(ev, out, force=force)
+                    if path.suffix.lower() in CHUNKED_INPUTS and \
+                            path.stat().st_size > PROGRESS_MIN_BYTES:  # shown, not written
+                        ev.notes.append("a large CSV or Parquet file goes faster, in bounded "
+                                        "memory, to a flat table: -o NAME.checked.parquet "
+                                        "(or .csv)")
                     render.summary(ev, out, written)
                     if report:
                         _build_report(ev, out, force)
