@@ -20,6 +20,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 import pandas as pd
+import pyarrow as pa
 
 from qc.errors import ConfigError, OutputError
 from qc.io.writeback_cells import (
@@ -147,7 +148,7 @@ def write_back(
         reason = _blocked(pkg, target, rows, header_row, last_column, last_col)
         if reason or target.part is None:
             raise Occupied(reason or "the sheet has no part in the file")
-        row_cells, widths = _result_cells(
+        targets, row_cells, widths = _result_cells(
             results,
             styles,
             header_row,
@@ -161,7 +162,8 @@ def write_back(
         edited = edited_worksheet(
             pkg.get(target.part),
             target.part,
-            row_cells=row_cells,
+            rows=targets,
+            cells=row_cells,
             last_column=last_column,
             first_col=first_col,
             last_col=last_col,
@@ -364,8 +366,9 @@ def _result_cells(
     verdict_column: str,
     date1904: bool,
     notes: CellNotes,
-) -> tuple[dict[int, str], list[float]]:
-    """Row number → cell XML of the header and the results, and the new columns' widths."""
+) -> tuple[list[int], pa.ChunkedArray, list[float]]:
+    """The rows to edit (the header's, then the results' when there are result columns),
+    the cell XML of each, and the new columns' widths."""
     header_style = styles.style(None, HEADER_MARK)
     verdicts = styles.verdict_styles()
     columns = []
@@ -390,10 +393,11 @@ def _result_cells(
             )
         )
         widths.append(column_width(label, series, fmt))
-    cells = {header_row: "".join(header)}
-    if columns:
-        cells.update(zip(rows, join_cells(columns).to_pylist(), strict=True))
-    return cells, widths
+    top = pa.array(["".join(header)], pa.string())
+    if not columns:
+        return [header_row], pa.chunked_array([top]), widths
+    # chunks side by side: the result rows' cells are not copied behind the header's
+    return [header_row, *rows], pa.chunked_array([top, join_cells(columns)]), widths
 
 
 def _set_macro_content(pkg: Package, book: WorkbookPart, suffix: str) -> list[str]:

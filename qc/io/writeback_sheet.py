@@ -9,6 +9,12 @@ pass, then regular expressions over the rows only, which keeps a 100 000-row she
 
 When writing would overwrite or hide something, :class:`Occupied` is raised with the reason and
 the caller writes a separate results sheet instead.
+
+The rows are spliced column-wise (numpy over the part's bytes, Arrow string kernels over the
+target rows) when the cell table has the plain form spreadsheet programs write: every row tag
+starts with its ``r`` number, rows in order. A row whose last cell is not plainly within the
+data goes through the cell-by-cell merge alone; any other layout takes the general row-by-row
+path, which gives the same bytes.
 """
 
 from __future__ import annotations
@@ -17,6 +23,11 @@ import bisect
 import re
 from collections.abc import Callable, Iterator, Sequence
 
+import numpy as np
+import pyarrow as pa
+import pyarrow.compute as pc
+
+from qc.io.writeback_cells import string_bytes
 from qc.io.xlsx_package import (
     check_xml_stream,
     column_index,
@@ -63,18 +74,22 @@ def edited_worksheet(
     xml: bytes,
     part: str,
     *,
-    row_cells: dict[int, str],
+    rows: Sequence[int] | np.ndarray,
+    cells: pa.Array | pa.ChunkedArray,
     last_column: int,
     first_col: int,
     last_col: int,
     widths: Sequence[float],
-) -> Callable[[], Iterator[bytes]]:
-    """The worksheet ``xml`` with ``row_cells`` (row number → cell XML, in column order) added.
+    column_wise: bool = True,
+) -> Callable[[], Iterator[bytes | memoryview]]:
+    """The worksheet ``xml`` with ``cells`` (the cell XML of row ``rows[i]``, in column order)
+    added; ``rows`` are increasing row numbers.
 
     ``last_column`` is the last column of the original data; cells with a value beyond it on a
     target row, or merged cells / an autofilter over the target area, raise :class:`Occupied`.
     All checks and edits happen now; the result is a generator of the new part's bytes, encoded
     as the package is written, so the sheet never exists as one string and one byte string.
+    ``column_wise=False`` forces the general row-by-row splice (same bytes; for tests).
     """
     check_xml_stream(xml, part)
     text = decode_xml(xml)
@@ -82,9 +97,10 @@ def edited_worksheet(
     if root is None:
         raise Occupied("the sheet is not an ordinary worksheet")
     p = (root.group(1) + ":") if root.group(1) else ""
-    rows = sorted(row_cells)
-    if p:
-        row_cells = {r: _prefixed(c, p) for r, c in row_cells.items()}
+    targets = np.asarray(rows, dtype=np.int64)
+    if len(targets) != len(cells):
+        raise ValueError(f"{len(cells)} rows of cells for {len(targets)} row numbers")
+    rows = targets.tolist()
 
     sd = re.search(rf"<{p}sheetData\b({_ATTRS})(/?)>", text)
     if sd is None:
@@ -112,7 +128,16 @@ def edited_worksheet(
             what = "merged cells" if tag == "mergeCell" else "an autofilter"
             raise Occupied(f"{what} at {range_text(*hit)} cover the columns for the results")
 
-    new_inner = _edit_rows(inner, p, row_cells, rows, last_column)
+    spliced = _splice_rows(inner, p, targets, cells, last_column) if column_wise else None
+    if spliced is None:
+        row_cells = dict(zip(rows, cells.to_pylist(), strict=True))
+        if p:
+            row_cells = {r: _prefixed(c, p) for r, c in row_cells.items()}
+        new_inner: list[str | Callable[[], Iterator[memoryview]]] = list(
+            _edit_rows(inner, p, row_cells, rows, last_column))
+        del row_cells
+    else:
+        new_inner = [spliced]
     head = _widen_dimension(text[: sd.start()], p, rows[0], rows[-1], first_col, last_col)
     head = _set_widths(head, p, first_col, widths)
     if sd.group(2):
@@ -123,12 +148,36 @@ def edited_worksheet(
     rest = pieces[1:]
     del text, inner, tail, new_inner, pieces  # only the pieces of the new sheet stay
 
-    def chunks() -> Iterator[bytes]:
+    def chunks() -> Iterator[bytes | memoryview]:
         yield first
-        for at in range(0, len(rest), _PIECES_PER_CHUNK):
-            yield "".join(rest[at : at + _PIECES_PER_CHUNK]).encode("utf-8")
+        text: list[str] = []
+        for piece in rest:
+            if isinstance(piece, str):
+                text.append(piece)
+                if len(text) >= _PIECES_PER_CHUNK:
+                    yield "".join(text).encode("utf-8")
+                    text = []
+                continue
+            if text:
+                yield "".join(text).encode("utf-8")
+                text = []
+            for made in piece():
+                yield from _slices(made)
+        if text:
+            yield "".join(text).encode("utf-8")
 
     return chunks
+
+
+#: Bytes of an already-built piece handed to the zip writer at a time.
+_SLICE_BYTES = 8 * 1024 * 1024
+
+
+def _slices(data: bytes | memoryview) -> Iterator[memoryview]:
+    """``data`` in slices of :data:`_SLICE_BYTES` (compressing overlaps the next slice)."""
+    view = memoryview(data)
+    for at in range(0, len(view), _SLICE_BYTES):
+        yield view[at : at + _SLICE_BYTES]
 
 
 def _unclose(attrs: str) -> str:
@@ -138,6 +187,214 @@ def _unclose(attrs: str) -> str:
 
 def _prefixed(cells: str, p: str) -> str:
     return re.sub(r"<(/?)(c|v|is|t)\b", rf"<\1{p}\2", cells)
+
+
+#: Bytes that may follow ``<row`` in a row tag, and ``<c`` in a cell tag (the bytes the
+#: row-by-row path accepts when it looks for a row's last cell).
+_ROW_NEXT = np.array([0x20, 0x09, 0x0A, 0x0D, ord(">"), ord("/")], np.uint8)
+_CELL_NEXT = np.array([0x20, 0x09, 0x0A, ord(">"), ord("/")], np.uint8)
+#: A row tag of the plain form: ``r`` first, in double quotes, then ordinary attributes.
+_PLAIN_ROW_TAG = (
+    r"""^<row\s+r="[0-9]{1,9}"(?:\s+[^\s=<>"'/]+\s*=\s*(?:"[^"]*"|'[^']*'))*\s*/?>$"""
+)
+_ROW_NUMBER = r'^<row\s+r="(?P<r>[0-9]+)"'
+_SPANS = r"""\s+spans\s*=\s*("[^"]*"|'[^']*')"""
+#: Bytes of a cell tag looked at for its column: ``<c r="``, 3 letters, 7 digits, the quote.
+_CELL_HEAD = b' r="'
+_WINDOW = 12
+#: Target rows of a column-wise splice made into text at a time.
+_SPLICE_ROWS = 16384
+
+
+class _Rows:
+    """Where the rows of a plain cell table are (byte offsets), and what they hold."""
+
+    def __init__(self, data: bytes) -> None:
+        self.data = data
+        self.n = n = len(data)
+        self.b = np.frombuffer(data, np.uint8)
+        self.whole = whole = _segments(data, np.array([0, n]))
+        starts = _find_all(whole, "<row")
+        self.opens = starts[np.isin(self.at(starts + 4), _ROW_NEXT)]
+        self.other_row_names = len(self.opens) != len(starts)
+        self.closes = _find_all(whole, "</row")
+        cells = _find_all(whole, "<c")
+        self.cell_opens = cells[np.isin(self.at(cells + 2), _CELL_NEXT)]
+        if len(self.opens):
+            to_next = _segments(data, np.append(self.opens, n))
+            gt = pc.find_substring(to_next, ">").to_numpy().astype(np.int64)
+            self.tag_end = self.opens + gt + 1
+        else:
+            self.tag_end = self.opens
+
+    def at(self, where: np.ndarray) -> np.ndarray:
+        """The bytes at offsets ``where``; past the end, the last byte (never looked at: the
+        offsets asked for past a tag's end only matter up to the tag's closing ``>``)."""
+        if not len(self.b):
+            return np.zeros(where.shape, np.uint8)
+        return np.take(self.b, where, mode="clip")
+
+    def plain(self) -> tuple[np.ndarray, np.ndarray, np.ndarray] | None:
+        """Row numbers, content ends and self-closing flags; None unless every row is plain."""
+        opens, tag_end, closes = self.opens, self.tag_end, self.closes
+        if self.other_row_names or np.any(self.at(closes + 5) != ord(">")):
+            return None  # an element whose name only begins with "row", or "</row >"
+        if not len(opens):
+            return np.zeros(0, np.int64), opens, np.zeros(0, bool)
+        if np.any(tag_end <= opens) or np.any(self.at(tag_end - 1) != ord(">")):
+            return None
+        tags = _segments(self.data, np.column_stack([opens, tag_end]).ravel())
+        tags = tags.take(pa.array(np.arange(0, 2 * len(opens) - 1, 2)))
+        if not (pc.all(pc.string_is_ascii(tags)).as_py()
+                and pc.all(pc.match_substring_regex(tags, _PLAIN_ROW_TAG)).as_py()):
+            return None
+        found = pc.struct_field(pc.extract_regex(tags, _ROW_NUMBER), [0])
+        numbers = pc.cast(found, pa.int64()).to_numpy()
+        if numbers[0] <= 0 or np.any(np.diff(numbers) <= 0):
+            return None  # the row-by-row path says which row is out of order
+        closing = pc.ends_with(tags, "/>").to_numpy(zero_copy_only=False)
+        ends = tag_end.copy()
+        open_rows = np.flatnonzero(~closing)
+        if len(open_rows) != len(closes):
+            return None
+        following = np.append(opens[1:], self.n)[open_rows]
+        if np.any(closes < tag_end[open_rows]) or np.any(closes > following):
+            return None
+        ends[open_rows] = closes
+        return numbers, ends, closing
+
+    def last_cell_within(self, start: np.ndarray, stop: np.ndarray, last: int) -> np.ndarray:
+        """Rows whose content ``start:stop`` ends with a cell of column ``last`` or before,
+        named plainly (``<c r="B7"``), with no ``extLst`` in it: the new cells simply follow."""
+        cell_opens = self.cell_opens
+        if not len(cell_opens) or not len(start):
+            return np.zeros(len(start), bool)
+        k = np.searchsorted(cell_opens, stop) - 1
+        at = cell_opens[np.maximum(k, 0)]
+        ok = (k >= 0) & (at >= start)
+        head = self.at(at[:, None] + 2 + np.arange(len(_CELL_HEAD)))
+        ok &= np.all(head == np.frombuffer(_CELL_HEAD, np.uint8), axis=1)
+        w = self.at(at[:, None] + 2 + len(_CELL_HEAD) + np.arange(_WINDOW))
+        upper = w & 0xDF
+        alpha = (upper >= ord("A")) & (upper <= ord("Z"))
+        letters = np.argmin(alpha, axis=1)
+        ok &= (letters >= 1) & (letters <= 3)
+        after = ~((w >= ord("0")) & (w <= ord("9"))) & (np.arange(_WINDOW) >= letters[:, None])
+        first = np.argmax(after, axis=1)
+        ok &= w[np.arange(len(w)), first] == ord('"')
+        col = np.zeros(len(w), np.int64)
+        for j in range(3):
+            col = np.where(j < letters, col * 26 + (upper[:, j].astype(np.int64) - 64), col)
+        ok &= col <= last
+        if pc.sum(pc.count_substring(self.whole, "extLst")).as_py():
+            occ = _find_all(self.whole, "extLst")
+            inside = np.searchsorted(occ, stop - 6, "right") - np.searchsorted(occ, start)
+            ok &= inside <= 0
+        return ok
+
+
+def _find_all(text: pa.Array, pattern: str) -> np.ndarray:
+    """Byte offsets of every occurrence of ``pattern`` in the one-element array ``text``."""
+    pieces = pc.split_pattern(text, pattern).flatten()
+    lengths = pc.binary_length(pieces).to_numpy().astype(np.int64)
+    return np.cumsum(lengths[:-1]) + np.arange(len(lengths) - 1) * len(pattern.encode())
+
+
+def _segments(data: bytes, cuts: np.ndarray) -> pa.Array:
+    """``data[cuts[i]:cuts[i + 1]]`` for each i as an Arrow string array, without a copy.
+
+    The cuts lie on ``<`` and ``>`` bytes or the ends, so every piece is whole UTF-8 text.
+    """
+    offsets = pa.py_buffer(np.ascontiguousarray(cuts, dtype=np.int64))
+    return pa.LargeStringArray.from_buffers(len(cuts) - 1, offsets, pa.py_buffer(data))
+
+
+def _large(*parts: pa.Array | str) -> pa.Array:
+    """Element-wise concatenation of large-string arrays and texts."""
+    args = [pa.scalar(p, pa.large_string()) if isinstance(p, str) else p for p in parts]
+    return pc.binary_join_element_wise(*args, pa.scalar("", pa.large_string()))
+
+
+def _splice_rows(
+    inner: str, p: str, targets: np.ndarray, cells: pa.Array | pa.ChunkedArray, last: int
+) -> Callable[[], Iterator[memoryview]] | None:
+    """The new cell table, spliced column-wise; None when it is not of the plain form.
+
+    Every check (and so every :class:`Occupied`) happens now; the returned function makes the
+    new text block by block, as the package is written.
+
+    Gives the bytes :func:`_edit_rows` gives. Every ``<`` of the cell table starts a tag (the
+    caller refused comments, character data and processing instructions; XML allows no ``<``
+    in text or attribute values), so row and cell tags are found from the bytes after each
+    ``<``. Rows whose last cell is not plainly within the data are merged one by one by
+    :func:`_merge_cells`, which also raises :class:`Occupied` when a value is in the way.
+    """
+    if p:
+        return None
+    data = inner.encode("utf-8")
+    sheet = _Rows(data)
+    layout = sheet.plain()
+    if layout is None:
+        return None
+    numbers, ends, closing = layout
+    n = sheet.n
+    at = np.searchsorted(numbers, targets)  # the row a target is, or goes before
+    found = np.append(numbers, -1)[at] == targets
+    pos = np.append(sheet.opens, n)[at]
+    start = np.where(found, np.append(sheet.tag_end, n)[at], pos)
+    stop = np.where(found, np.append(ends, n)[at], pos)
+    shut = ~found | np.append(closing, False)[at]  # new and self-closing rows get </row>
+    cuts = np.concatenate([[0], np.column_stack([pos, start, stop]).ravel(), [n]])
+    if np.any(np.diff(cuts) < 0):
+        return None
+    cells = pc.cast(cells, pa.large_string())
+    slow = found & ~sheet.last_cell_within(start, stop, last)
+    merged = _merged(data, cells, targets, slow, start, stop, last) if slow.any() else None
+    seg = _segments(data, cuts)
+
+    def block(a: int, z: int) -> memoryview:
+        """The new text from before target ``a`` up to the end of target ``z - 1``."""
+        keep, tag, content = (seg.take(pa.array(np.arange(3 * a + k, 3 * z, 3)))
+                              for k in range(3))
+        own = pc.replace_substring_regex(pc.replace_substring_regex(tag, _SPANS, ""), "/>$", ">")
+        made = _large('<row r="', pc.cast(pa.array(targets[a:z]), pa.large_string()), '">')
+        body = _large(content, cells[a:z])
+        if merged is not None:
+            body = pc.if_else(pa.array(slow[a:z]), merged[a:z], body)
+        shut_text = pc.if_else(pa.array(shut[a:z]), pa.scalar("</row>", pa.large_string()),
+                               pa.scalar("", pa.large_string()))
+        return string_bytes(_large(keep, pc.if_else(pa.array(found[a:z]), own, made), body,
+                                   shut_text))
+
+    def pieces() -> Iterator[memoryview]:
+        for a in range(0, len(targets), _SPLICE_ROWS):
+            yield block(a, min(a + _SPLICE_ROWS, len(targets)))
+        yield memoryview(data)[int(cuts[-2]) :]
+
+    return pieces
+
+
+def _merged(
+    data: bytes,
+    cells: pa.Array | pa.ChunkedArray,
+    targets: np.ndarray,
+    slow: np.ndarray,
+    start: np.ndarray,
+    stop: np.ndarray,
+    last: int,
+) -> pa.Array:
+    """The merged content of the ``slow`` rows (null elsewhere), each by :func:`_merge_cells`."""
+    cell_re = re.compile(rf"<c\b({_ATTRS})(/?)>")
+    picked = np.flatnonzero(slow)
+    merged = [
+        _merge_cells(data[a:z].decode("utf-8"), "", cell_re, new, r, last)
+        for a, z, new, r in zip(
+            start[picked].tolist(), stop[picked].tolist(),
+            cells.take(pa.array(picked)).to_pylist(), targets[picked].tolist(), strict=True)
+    ]
+    where = np.zeros(len(slow), np.int64)
+    where[picked] = np.arange(len(picked))
+    return pa.array(merged, pa.large_string()).take(pa.array(where, mask=~slow))
 
 
 def _edit_rows(

@@ -11,8 +11,11 @@ from __future__ import annotations
 
 import posixpath
 import re
+import threading
 import zipfile
+from collections.abc import Callable
 from pathlib import Path
+from typing import Generic, TypeVar
 
 import numpy as np
 import python_calamine as pc
@@ -28,6 +31,7 @@ _NS = "{http://schemas.openxmlformats.org/spreadsheetml/2006/main}"
 _REL_NS = "{http://schemas.openxmlformats.org/officeDocument/2006/relationships}"
 _PKG_REL = "{http://schemas.openxmlformats.org/package/2006/relationships}"
 _REF = re.compile(r"^([A-Z]+)(\d+)$")
+T = TypeVar("T")
 
 
 def column_index(letters: str) -> int:
@@ -158,6 +162,32 @@ def _hidden_cells_namespaced(data: bytes) -> dict[tuple[int, int], CellMarker]:
     return out
 
 
+class _Background(Generic[T]):
+    """``fn(*args)`` run on a second thread; :meth:`result` waits and returns or raises."""
+
+    def __init__(self, fn: Callable[..., T], *args: object) -> None:
+        self._out: list[T] = []
+        self._err: list[BaseException] = []
+
+        def run() -> None:
+            try:
+                self._out.append(fn(*args))
+            except BaseException as exc:  # re-raised by result() on the calling thread
+                self._err.append(exc)
+
+        self._thread = threading.Thread(target=run, name="qc-xlsx-scan", daemon=True)
+        self._thread.start()
+
+    def wait(self) -> None:
+        self._thread.join()
+
+    def result(self) -> T:
+        self._thread.join()
+        if self._err:
+            raise self._err[0]
+        return self._out[0]
+
+
 def read_workbook_sheet(path: Path, sheet: str | None, *, prefer: tuple[str, ...] = (),
                         avoid: tuple[str, ...] = ()) -> Grid:
     """Read one sheet to a Grid: by name, else the first named in ``prefer``, else the first
@@ -175,11 +205,17 @@ def read_workbook_sheet(path: Path, sheet: str | None, *, prefer: tuple[str, ...
             from qc.errors import UnknownNameError
 
             raise FileReadError(f"{path.name}: {UnknownNameError('sheet', sheet, names)}")
+        # the scan of the raw XML runs while calamine reads (both mostly outside the
+        # interpreter lock); its result, or its error, is taken after calamine's
+        scan = _Background(hidden_cells, path, sheet) if path.suffix.lower() in (
+            ".xlsx", ".xlsm") else None
         try:
             ws = wb.get_sheet_by_name(sheet)
             rows = ws.to_python(skip_empty_area=False)
             merged = list(ws.merged_cell_ranges or [])
         except Exception as exc:
+            if scan is not None:
+                scan.wait()
             raise FileReadError(
                 f"{path.name} › {sheet}: the sheet cannot be read ({type(exc).__name__}: {exc})"
             ) from exc
@@ -193,8 +229,8 @@ def read_workbook_sheet(path: Path, sheet: str | None, *, prefer: tuple[str, ...
         cells[:] = ""
         for i, r in enumerate(rows):
             cells[i, : len(r)] = r
-    if path.suffix.lower() in (".xlsx", ".xlsm"):
-        hidden = hidden_cells(path, sheet)
+    if scan is not None:
+        hidden = scan.result()
         if hidden:
             nr = max(cells.shape[0], *(r + 1 for r, _ in hidden))
             nc = max(cells.shape[1], *(c + 1 for _, c in hidden))

@@ -17,7 +17,7 @@ import queue
 import re
 import threading
 import zipfile
-from collections.abc import Callable, Iterable
+from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
 from typing import IO
@@ -60,6 +60,8 @@ FAST_COMPRESSION_BYTES = 4 * 1024**2
 #: (level 1: about three times quicker than 6, files about 20 % larger); small ones at 6.
 FAST_LEVEL = 1
 SMALL_LEVEL = 6
+#: Chunks of streamed parts built ahead of the zip writer (each up to some tens of MB).
+_AHEAD = 2
 
 #: A part produced in pieces when the package is written (a generator of bytes).
 Chunks = Callable[[], Iterable[bytes | memoryview]]
@@ -431,8 +433,10 @@ class Package:
         self._data["[Content_Types].xml"] = self._content_types_xml()
         self.edited.add("[Content_Types].xml")
         infos = {i.filename: i for i in self._infos}
-        with zipfile.ZipFile(fileobj, "w", zipfile.ZIP_DEFLATED) as zf:
-            for name in self.names():
+        names = self.names()
+        ahead = _Prefetch([(n, self._streams[n]) for n in names if n in self._streams])
+        with ahead, zipfile.ZipFile(fileobj, "w", zipfile.ZIP_DEFLATED) as zf:
+            for name in names:
                 old = infos.get(name)
                 if old is None:
                     info = zipfile.ZipInfo(name, date_time=(1980, 1, 1, 0, 0, 0))
@@ -450,7 +454,8 @@ class Package:
                     zip64 = name in self._zip64
                     try:
                         with zf.open(info, "w", force_zip64=zip64) as dst:
-                            _pipe(self._streams[name](), dst.write)
+                            for chunk in ahead.chunks(name):
+                                dst.write(chunk)
                     except RuntimeError as exc:
                         if zip64 or "force_zip64" not in str(exc):
                             raise
@@ -469,33 +474,65 @@ class _NeedsZip64(Exception):
         self.part = part
 
 
-def _pipe(chunks: Iterable[bytes | memoryview], write: Callable[[memoryview], object]) -> None:
-    """Hand ``chunks`` to ``write`` on a second thread.
+_END = object()
 
-    Building the next chunk then overlaps compressing the last one: zlib and the Arrow kernels
-    release the interpreter lock.
+
+class _Prefetch:
+    """The streamed parts' chunks, made in order on a second thread while parts are written.
+
+    Building the next chunk (Arrow kernels) then overlaps compressing the last one (zlib), and
+    the next part's first chunks are built while the part before it is still being
+    compressed: both release the interpreter lock. At most :data:`_AHEAD` chunks wait.
+    Leaving the ``with`` block stops the thread, also after an error on either side; an error
+    while building is raised where the chunks are taken.
     """
-    pending: queue.Queue[memoryview | None] = queue.Queue(maxsize=2)
-    failed: list[BaseException] = []
 
-    def drain() -> None:
-        while (item := pending.get()) is not None:
-            if failed:
-                continue  # keep taking items so the producer never blocks
+    def __init__(self, parts: list[tuple[str, Chunks]]) -> None:
+        self._parts = parts
+        self._queue: queue.Queue[object] = queue.Queue(maxsize=_AHEAD)
+        self._stop = threading.Event()
+        self._thread = threading.Thread(target=self._run, name="qc-part-builder", daemon=True)
+
+    def __enter__(self) -> _Prefetch:
+        if self._parts:
+            self._thread.start()
+        return self
+
+    def __exit__(self, *_exc: object) -> None:
+        self._stop.set()  # the builder stops within a chunk (it never waits on a full queue)
+        if self._parts:
+            self._thread.join()
+
+    def _put(self, item: object) -> bool:
+        """Hand ``item`` over, waiting for room; False once the writer has stopped."""
+        while not self._stop.is_set():
             try:
-                write(item)
-            except BaseException as exc:  # re-raised on the calling thread below
-                failed.append(exc)
+                self._queue.put(item, timeout=0.05)
+                return True
+            except queue.Full:
+                continue
+        return False
 
-    worker = threading.Thread(target=drain, name="qc-zip-writer", daemon=True)
-    worker.start()
-    try:
-        for chunk in chunks:
-            if failed:
-                break
-            pending.put(memoryview(chunk))
-    finally:
-        pending.put(None)
-        worker.join()
-    if failed:
-        raise failed[0]
+    def _run(self) -> None:
+        for name, chunks in self._parts:
+            try:
+                for chunk in chunks():
+                    if not self._put((name, memoryview(chunk))):
+                        return
+            except BaseException as exc:  # re-raised on the writing thread
+                self._put((name, exc))
+                return
+            if not self._put((name, _END)):
+                return
+
+    def chunks(self, name: str) -> Iterator[memoryview]:
+        """The chunks of part ``name``, which must be the next streamed part."""
+        while True:
+            part, item = self._queue.get()  # type: ignore[misc]
+            if part != name:
+                raise RuntimeError(f"streamed parts out of order: {part} before {name}")
+            if item is _END:
+                return
+            if isinstance(item, BaseException):
+                raise item
+            yield item  # type: ignore[misc]

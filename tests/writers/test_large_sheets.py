@@ -18,6 +18,7 @@ import math
 import shutil
 import subprocess
 import zipfile
+from collections.abc import Iterator
 from datetime import datetime
 from pathlib import Path
 
@@ -388,13 +389,21 @@ def test_a_failing_sheet_leaves_no_output(tmp_path: Path) -> None:
     with pytest.raises(OutputError, match="disk full while writing"):
         pkg.write(io.BytesIO())
 
-    def refuse(_chunk: object) -> None:
-        raise OSError("no space left on device")
-
     from qc.io import xlsx_package
 
-    with pytest.raises(OSError, match="no space left"):
-        xlsx_package._pipe(iter([b"a"] * 10), refuse)
+    built: list[int] = []
+
+    def many() -> Iterator[bytes]:
+        for i in range(1000):
+            built.append(i)
+            yield b"a"
+
+    # the writer fails on its first chunk: the builder thread stops instead of building on
+    ahead = xlsx_package._Prefetch([("a.xml", many)])
+    with pytest.raises(OSError, match="no space left"), ahead:
+        for _chunk in ahead.chunks("a.xml"):
+            raise OSError("no space left on device")
+    assert not ahead._thread.is_alive() and len(built) < 1000
 
 
 def test_streamed_part_bytes_match_get(tmp_path: Path) -> None:
