@@ -370,8 +370,8 @@ def stream_delimited(path: Path, *, delimiter: str | None = None, decimal: str |
 
 @dataclass
 class TextChunk:
-    """Rows of a delimited file as pyarrow split them, not yet cells: small to send to another
-    process, where :meth:`grid` makes the cells. The first chunk (``first_row`` 0) also holds
+    """Rows of a delimited file as pyarrow split them, made into cells by :meth:`grid` when
+    their turn comes. The first chunk (``first_row`` 0) also holds
     the rows above the body and the file's notes, and finds the decimal mark if not given."""
 
     file: str

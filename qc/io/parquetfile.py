@@ -74,8 +74,8 @@ def read_parquet_grid(path: Path) -> Grid:
 
 @dataclass
 class ParquetChunk:
-    """Records of a Parquet file, not yet cells: small to send to another process, where
-    :meth:`grid` makes the cells (the first chunk with the header row on top)."""
+    """Records of a Parquet file, made into cells by :meth:`grid` when their turn comes (the
+    first chunk with the header row on top)."""
 
     file: str
     batch: object  # a pyarrow.RecordBatch

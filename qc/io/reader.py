@@ -37,8 +37,7 @@ from qc.io.xlsx import read_workbook_sheet
 from qc.models import InspectionRecord, Layout, RowError
 
 __all__ = ["ChunkContext", "ChunkedInspection", "ColumnRef", "InspectionTable", "NotStreamable",
-           "check", "chunk_table", "read_grid", "read_inspection", "read_inspection_chunks",
-           "record_of", "table_of_grid"]
+           "check", "read_grid", "read_inspection", "read_inspection_chunks", "record_of"]
 
 WORKBOOK_SUFFIXES = (".xlsx", ".xlsm", ".ods")
 TEXT_SUFFIXES = (".csv", ".tsv", ".txt")
@@ -137,7 +136,7 @@ def read_inspection(path: Path | str, *, layout: Layout | Path | str | None = No
     decimal_opt = None if lay.decimal == "auto" else lay.decimal
     grid = read_grid(path, sheet=sheet or lay.sheet, decimal=decimal_opt,
                      delimiter=lay.delimiter, avoid=REGISTER_SHEETS, limits=limits)
-    return _first_table(path, grid, lay, register, allow_wide=True)[0]
+    return _first_table(path, grid, lay, register, whole=True)[0]
 
 
 def _layout(layout: Layout | Path | str | None) -> Layout:
@@ -147,9 +146,9 @@ def _layout(layout: Layout | Path | str | None) -> Layout:
 
 
 def _first_table(path: Path, grid: Grid, lay: Layout, register: Path | str | None, *,
-                 allow_wide: bool) -> tuple[InspectionTable, HeaderScan | None]:
-    """The table of a whole sheet, or of the first chunk of a file read in parts, with the
-    header scan that later chunks reuse (None for a wide sheet)."""
+                 whole: bool) -> tuple[InspectionTable, HeaderScan | None]:
+    """The table of a whole sheet (``whole``), or of the first chunk of a file read in parts,
+    with the header scan that later chunks reuse (None for a wide sheet)."""
     decimal_opt = None if lay.decimal == "auto" else lay.decimal
     warnings = list(grid.notes)
     if not grid.cells.size or grid.blank().all():
@@ -162,7 +161,7 @@ def _first_table(path: Path, grid: Grid, lay: Layout, register: Path | str | Non
                         "separator")
 
     wide = None if lay.layout == "long" else find_wide_header(grid, lay)
-    if wide is not None and not allow_wide:
+    if wide is not None and not whole:  # a wide sheet is read whole
         raise NotStreamable(grid.file)
     reg = _register(path, grid, lay, register, decimal, warnings)
     columns: dict[str, ColumnRef] = {}
@@ -196,7 +195,7 @@ def _first_table(path: Path, grid: Grid, lay: Layout, register: Path | str | Non
             warnings.append(f"{where} › {column_letter(c)}: header {text!r} not recognised, "
                             f"column ignored{extra}")
     if not data_rows:
-        if not allow_wide:  # a first chunk without data: let a whole read decide
+        if not whole:  # a first chunk without data: let a whole read decide
             raise NotStreamable(grid.file)
         where = grid.file + (f" › {grid.sheet}" if grid.sheet else "")
         raise FileReadError(f"{where}: no data rows under the header in row {header_row}")
@@ -219,7 +218,7 @@ def _last_column(grid: Grid) -> str:
 @dataclass(frozen=True)
 class ChunkContext:
     """What the later chunks of a file read in parts take from the first: its header,
-    layout, register and decimal mark (small, and picklable for a worker process)."""
+    layout, register and decimal mark."""
 
     file: str
     layout: Layout
@@ -231,12 +230,7 @@ class ChunkContext:
     scan: HeaderScan
 
 
-def chunk_table(chunk: TextChunk | ParquetChunk, context: ChunkContext) -> InspectionTable:
-    """The validated table of a later chunk (in this process or another one)."""
-    return table_of_grid(chunk.grid(), context)
-
-
-def table_of_grid(grid: Grid, ctx: ChunkContext) -> InspectionTable:
+def _table_of_grid(grid: Grid, ctx: ChunkContext) -> InspectionTable:
     """The validated table of a later chunk's cells, with the first chunk's context."""
     raw, data_rows = _long_raw(grid, ctx.scan, below_header=False)
     warnings: list[str] = []
@@ -256,9 +250,9 @@ class ChunkedInspection:
     """An inspection file read and validated in chunks of rows.
 
     ``first`` is the first chunk's table; ``chunks`` yields the later chunks not yet made
-    into cells, for :func:`chunk_table` with ``context`` here or in a worker process;
-    ``tables`` does both in this process (row numbers count from the file's top, frame
-    positions from the chunk's). ``fraction`` tells how much of the file has been read.
+    into cells; ``tables`` makes each into cells and a validated table with ``context`` (row
+    numbers count from the file's top, frame positions from the chunk's). ``fraction`` tells
+    how much of the file has been read.
     """
 
     first: InspectionTable
@@ -279,7 +273,7 @@ class ChunkedInspection:
                 return
             grid = chunk.grid()
             self.read_seconds += time.perf_counter() - t
-            yield table_of_grid(grid, self.context)
+            yield _table_of_grid(grid, self.context)
 
 
 def read_inspection_chunks(path: Path | str, *, layout: Layout | Path | str | None = None,
@@ -316,7 +310,7 @@ def read_inspection_chunks(path: Path | str, *, layout: Layout | Path | str | No
         raise NotStreamable(path.name)
     first_grid = first_chunk.grid()
     read_seconds = time.perf_counter() - t
-    first, scan = _first_table(path, first_grid, lay, register, allow_wide=False)
+    first, scan = _first_table(path, first_grid, lay, register, whole=False)
     assert scan is not None  # a long sheet
     context = ChunkContext(file=first.file, layout=lay, columns=first.columns,
                            register=first.register, decimal=first.decimal_mark or ".",
